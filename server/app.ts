@@ -1,0 +1,151 @@
+import fs from 'node:fs';
+import path from 'node:path';
+import express, { type Express, type RequestHandler, Router } from 'express';
+import helmet from 'helmet';
+import session from 'express-session';
+import connectPgSimple from 'connect-pg-simple';
+import cookieParser from 'cookie-parser';
+import { Passport } from 'passport';
+import { Strategy as LocalStrategy } from 'passport-local';
+import { doubleCsrf } from 'csrf-csrf';
+import { pinoHttp } from 'pino-http';
+import pg from 'pg';
+import type { AppContext } from './context';
+import { apiNotFound, errorHandler } from './middleware/errors';
+import { requireAccess } from './middleware/access';
+import { validate } from './middleware/validate';
+import { routeTable } from './routes';
+import type { RouteDef } from './routes/types';
+import { verifyPassword } from './services/passwords';
+import { loadSessionUser } from './services/users';
+
+export interface CreatedApp {
+  app: Express;
+  routes: RouteDef[];
+  /** Closes what the app opened beside the context (the session pool). */
+  close: () => Promise<void>;
+}
+
+const CLIENT_DIR = path.resolve(import.meta.dirname, '../dist/client');
+
+/** The Express app factory: used by server/index.ts and by the API tests. */
+export function createApp(ctx: AppContext): CreatedApp {
+  const { config } = ctx;
+  const app = express();
+  app.disable('x-powered-by');
+  if (config.secureCookies) app.set('trust proxy', 1);
+
+  app.use(
+    helmet({
+      contentSecurityPolicy: {
+        useDefaults: false,
+        directives: {
+          defaultSrc: ["'self'"],
+          scriptSrc: ["'self'"],
+          // PrimeVue's theme writes <style> elements at run time; scripts stay strictly same-origin.
+          styleSrc: ["'self'", "'unsafe-inline'"],
+          imgSrc: ["'self'", 'data:', 'blob:'],
+          fontSrc: ["'self'", 'data:'],
+          connectSrc: ["'self'"],
+          objectSrc: ["'none'"],
+          baseUri: ["'self'"],
+          frameAncestors: ["'none'"],
+          formAction: ["'self'"],
+          ...(config.secureCookies ? { upgradeInsecureRequests: [] } : {}),
+        },
+      },
+    }),
+  );
+  app.use(pinoHttp({ logger: ctx.logger, autoLogging: { ignore: (req) => req.url === '/api/health' } }));
+
+  const sessionPool = new pg.Pool({ connectionString: config.databaseUrl, max: 5, connectionTimeoutMillis: 5_000 });
+  sessionPool.on('error', (err) => ctx.logger.warn({ err }, 'session pool error'));
+  const PgStore = connectPgSimple(session);
+
+  app.use('/api', express.json({ limit: '100kb' }));
+  app.use(cookieParser());
+  app.use(
+    session({
+      name: 'pw.sid',
+      store: new PgStore({ pool: sessionPool, tableName: 'session', createTableIfMissing: false, pruneSessionInterval: 15 * 60 }),
+      secret: config.sessionSecret,
+      resave: false,
+      saveUninitialized: false,
+      rolling: true,
+      cookie: { httpOnly: true, sameSite: 'lax', secure: config.secureCookies, maxAge: 12 * 60 * 60 * 1000, path: '/' },
+    }),
+  );
+
+  // An instance per app, so several apps in one process (the tests) never share strategies.
+  const passport = new Passport();
+  ctx.passport = passport;
+  passport.use(
+    new LocalStrategy({ usernameField: 'email', passwordField: 'password' }, async (email, password, done) => {
+      try {
+        const row = await ctx.knex('users').where({ email: email.trim() }).whereNull('disabled_at').first('id', 'password_hash');
+        if (!(await verifyPassword(row?.password_hash ?? null, password))) return done(null, false);
+        done(null, await loadSessionUser(ctx.knex, row.id));
+      } catch (error) {
+        done(error);
+      }
+    }),
+  );
+  passport.serializeUser((user, done) => done(null, user.id));
+  passport.deserializeUser(async (id: string, done) => {
+    try {
+      done(null, (await loadSessionUser(ctx.knex, id)) ?? false);
+    } catch (error) {
+      done(error);
+    }
+  });
+  app.use(passport.initialize());
+  app.use(passport.session());
+
+  const { generateCsrfToken, doubleCsrfProtection } = doubleCsrf({
+    getSecret: () => config.sessionSecret,
+    getSessionIdentifier: (req) => req.session.id,
+    cookieName: config.secureCookies ? '__Host-pw.csrf' : 'pw.csrf',
+    cookieOptions: { sameSite: 'lax', secure: config.secureCookies, httpOnly: true, path: '/' },
+    getCsrfTokenFromRequest: (req) => req.headers['x-csrf-token'] as string | undefined,
+    // Webhooks carry their own signature; there is no browser session to protect.
+    skipCsrfProtection: (req) => req.path.startsWith('/api/webhooks/'),
+  });
+  app.use('/api', (_req, res, next) => {
+    res.locals.generateCsrfToken = generateCsrfToken;
+    next();
+  });
+  app.use('/api', doubleCsrfProtection);
+
+  const routes = routeTable(ctx);
+  const router = Router();
+  for (const route of routes) {
+    const chain: RequestHandler[] = [requireAccess(route.access), ...(route.before ?? [])];
+    if (route.body || route.query || route.params) chain.push(validate(route));
+    else chain.push((req, _res, next) => { req.valid = { body: req.body, query: req.query, params: req.params }; next(); });
+    chain.push(async (req, res) => {
+      const result = await route.handler(req, res);
+      if (result !== undefined && !res.headersSent) res.json(result);
+    });
+    router[route.method](route.path, ...chain);
+  }
+  app.use(router);
+  app.use('/api', apiNotFound);
+
+  if (config.serveClient) {
+    if (!fs.existsSync(path.join(CLIENT_DIR, 'index.html'))) {
+      ctx.logger.warn('dist/client is missing: run `npm run build` to serve the client');
+    }
+    app.use(express.static(CLIENT_DIR, { index: false, maxAge: '1h', setHeaders: (res, file) => {
+      if (file.includes(`${path.sep}assets${path.sep}`)) res.setHeader('Cache-Control', 'public, max-age=31536000, immutable');
+    } }));
+    // History fallback: every other GET is a client route.
+    app.use((req, res, next) => {
+      if (req.method !== 'GET' || req.path.startsWith('/api')) return next();
+      res.setHeader('Cache-Control', 'no-cache');
+      res.sendFile(path.join(CLIENT_DIR, 'index.html'), (err) => err && next());
+    });
+  }
+
+  app.use(errorHandler);
+  return { app, routes, close: () => sessionPool.end() };
+}

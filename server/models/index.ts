@@ -1,0 +1,6 @@
+export { BaseModel } from './BaseModel';
+export { Company } from './Company';
+export { User } from './User';
+export { Membership } from './Membership';
+export { PasswordResetToken } from './PasswordResetToken';
+export { AuditEntry } from './AuditEntry';
