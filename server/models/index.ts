@@ -4,3 +4,4 @@ export { User } from './User';
 export { Membership } from './Membership';
 export { PasswordResetToken } from './PasswordResetToken';
 export { AuditEntry } from './AuditEntry';
+export { CalculationRun } from './CalculationRun';
