@@ -2,7 +2,7 @@ import fs from 'node:fs';
 import path from 'node:path';
 import crypto from 'node:crypto';
 import pg from 'pg';
-import { aptInstall, isRoot, run } from './exec';
+import { aptInstall, isRoot, portOpen, run } from './exec';
 
 /**
  * A PostgreSQL cluster of our own on 127.0.0.1, in a git-ignored folder, using Debian's binaries.
@@ -92,6 +92,9 @@ export async function startCluster(opts: { baseDir: string; port: number; log?: 
   if (isRoot()) run('chown', ['root:root', passwordFile]);
 
   if (!isRunning(bin, dataDir)) {
+    if (await portOpen(opts.port)) {
+      throw new Error(`Port ${opts.port} is taken by another program; choose another with PG_PORT, or point DATABASE_URL at an existing server.`);
+    }
     log(`starting on 127.0.0.1:${opts.port}`);
     const options = `-p ${opts.port} -k ${socketDir} -c listen_addresses=127.0.0.1 -c max_connections=200 -c fsync=off -c synchronous_commit=off`;
     run(path.join(bin, 'pg_ctl'), ['-D', dataDir, '-o', options, '-l', path.join(baseDir, 'server.log'), '-w', '-t', '60', 'start'], { asUser: SERVER_USER });

@@ -1,5 +1,4 @@
 import fs from 'node:fs';
-import os from 'node:os';
 import path from 'node:path';
 import { createRequire } from 'node:module';
 import { chromium, type Browser, type BrowserContext, type Page } from 'playwright-core';
@@ -11,23 +10,18 @@ export const SCREENSHOT_DIR = path.join(ROOT, '.artifacts/screenshots');
 export const DESKTOP = { width: 1280, height: 860 };
 export const PHONE = { width: 360, height: 740 };
 
-/** Debian's Chromium, headless, with a fresh profile and no background network traffic. */
+/** Debian's Chromium, headless, with no background network traffic; playwright gives each launch a fresh profile. */
 export async function launchBrowser(): Promise<{ browser: Browser; close: () => Promise<void> }> {
-  const profile = fs.mkdtempSync(path.join(os.tmpdir(), 'pw-chromium-'));
   const browser = await chromium.launch({
     executablePath: process.env.CHROMIUM_PATH ?? '/usr/bin/chromium',
     args: [
       '--headless', '--no-sandbox', '--disable-gpu', '--disable-quic', '--no-first-run',
       '--disable-background-networking', '--disable-component-update', '--disable-sync',
-      `--user-data-dir=${profile}`,
     ],
   });
   return {
     browser,
-    close: async () => {
-      await browser.close();
-      fs.rmSync(profile, { recursive: true, force: true });
-    },
+    close: () => browser.close(),
   };
 }
 
