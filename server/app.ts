@@ -67,11 +67,12 @@ export function createApp(ctx: AppContext): CreatedApp {
   app.use(
     session({
       name: 'pw.sid',
-      store: new PgStore({ pool: sessionPool, tableName: 'session', createTableIfMissing: false, pruneSessionInterval: 15 * 60 }),
+      // No touch: a session lives 12 hours from sign-in (an absolute limit), and reads never write.
+      store: new PgStore({ pool: sessionPool, tableName: 'session', createTableIfMissing: false, pruneSessionInterval: 15 * 60, disableTouch: true }),
       secret: config.sessionSecret,
       resave: false,
       saveUninitialized: false,
-      rolling: true,
+      rolling: false,
       cookie: { httpOnly: true, sameSite: 'lax', secure: config.secureCookies, maxAge: 12 * 60 * 60 * 1000, path: '/' },
     }),
   );
