@@ -20,6 +20,27 @@ const onlyProject = projectArg >= 0 ? args[projectArg + 1] : undefined;
 const wantsE2e = !onlyProject || onlyProject === 'e2e';
 const CHROMIUM = process.env.CHROMIUM_PATH ?? '/usr/bin/chromium';
 
+/** Removes clusters left by test runs whose process is gone (a crash or a kill -9). */
+function sweepAbandonedClusters() {
+  const dataDir = path.join(ROOT, '.data');
+  if (!fs.existsSync(dataDir)) return;
+  for (const entry of fs.readdirSync(dataDir)) {
+    const pid = Number(entry.match(/^postgres-(?:test|fault)-(\d+)$/)?.[1]);
+    if (!pid || pid === process.pid) continue;
+    try {
+      process.kill(pid, 0);
+    } catch {
+      const dir = path.join(dataDir, entry);
+      const postmaster = path.join(dir, 'data/postmaster.pid');
+      if (fs.existsSync(postmaster)) {
+        const serverPid = Number(fs.readFileSync(postmaster, 'utf8').split('\n')[0]);
+        try { process.kill(serverPid, 'SIGINT'); } catch { /* already gone */ }
+      }
+      fs.rmSync(dir, { recursive: true, force: true });
+    }
+  }
+}
+
 async function main() {
   const started = Date.now();
   const cleanups: (() => Promise<void> | void)[] = [];
@@ -38,7 +59,11 @@ async function main() {
   try {
     if (wantsE2e && !fs.existsSync(CHROMIUM)) aptInstall(['chromium'], 'Chromium (for the browser tests)');
 
-    const cluster = await startCluster({ baseDir: path.join(ROOT, '.data/postgres-test'), port: await freePort(), log: (m) => console.log(`[test] postgres: ${m}`) });
+    // A cluster of this run's own, so runs side by side never stop each other's database.
+    const clusterDir = path.join(ROOT, `.data/postgres-test-${process.pid}`);
+    sweepAbandonedClusters();
+    const cluster = await startCluster({ baseDir: clusterDir, port: await freePort(), throwaway: true, log: (m) => console.log(`[test] postgres: ${m}`) });
+    cleanups.push(() => fs.rmSync(clusterDir, { recursive: true, force: true }));
     cleanups.push(() => cluster.stop());
     const template = `pw_template_${process.pid}`;
     await ensureDatabase(cluster.adminUrl(), template);

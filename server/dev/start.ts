@@ -47,7 +47,8 @@ async function main() {
   let cluster: Cluster | undefined;
   if (!databaseUrl) {
     cluster = await startCluster({ baseDir: path.join(DATA, 'postgres'), port: ports.postgres });
-    cleanups.push(() => cluster!.stop());
+    // A cluster another npm start left running is theirs to stop.
+    if (!cluster.reused) cleanups.push(() => cluster!.stop());
     await ensureDatabase(cluster.adminUrl(), 'plumewright');
     databaseUrl = cluster.adminUrl('plumewright');
   }
@@ -105,7 +106,7 @@ async function main() {
     App:          ${appUrl}
     Mail inbox:   ${mail.url}
     Payment fake: ${process.env.STRIPE_API_URL}
-    Database:     ${cluster ? `PostgreSQL on 127.0.0.1:${ports.postgres} (data in .data/postgres)` : 'DATABASE_URL'}
+    Database:     ${cluster ? `PostgreSQL on 127.0.0.1:${cluster.port} (data in .data/postgres)` : 'DATABASE_URL'}
     Demo data:    ${seeded === 'seeded' ? 'seeded now' : 'already in place'}
 
   Demo sign-ins (password: ${DEMO_PASSWORD}):

@@ -88,7 +88,7 @@ async function signIn(baseUrl: string, email: string, password: string) {
 
 async function main() {
   const children: ChildProcess[] = [];
-  const cluster = await startCluster({ baseDir: path.join(ROOT, '.data/postgres-bench'), port: await freePort(), log: (m) => console.log(`[bench] postgres: ${m}`) });
+  const cluster = await startCluster({ baseDir: path.join(ROOT, '.data/postgres-bench'), port: await freePort(), throwaway: true, log: (m) => console.log(`[bench] postgres: ${m}`) });
   const dbName = `pw_bench_${process.pid}`;
   try {
     await ensureDatabase(cluster.adminUrl(), dbName);
