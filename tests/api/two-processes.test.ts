@@ -1,0 +1,79 @@
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import type { Server } from 'node:http';
+import type { AddressInfo } from 'node:net';
+import { createApp } from '../../server/app';
+import { createTestApp, type TestApp } from '../helpers/app';
+import { createCompany, createUser } from '../helpers/factory';
+
+/** Two app instances on two ports against one database, as behind a load balancer. */
+let t: TestApp;
+let second: ReturnType<typeof createApp>;
+const servers: Server[] = [];
+const urls: string[] = [];
+
+async function listen(app: TestApp['app']) {
+  const server = app.listen(0, '127.0.0.1');
+  await new Promise<void>((r) => server.once('listening', r));
+  servers.push(server);
+  return `http://127.0.0.1:${(server.address() as AddressInfo).port}`;
+}
+
+beforeAll(async () => {
+  t = await createTestApp();
+  second = createApp({ ...t.ctx });
+  urls.push(await listen(t.app), await listen(second.app));
+});
+afterAll(async () => {
+  for (const s of servers) {
+    s.closeAllConnections();
+    await new Promise((r) => s.close(r));
+  }
+  await second.close();
+  await t.close();
+});
+
+class Browser {
+  private jar = new Map<string, string>();
+  private keep(res: Response) {
+    for (const c of res.headers.getSetCookie()) {
+      const [pair] = c.split(';');
+      this.jar.set(pair.split('=')[0], pair);
+    }
+  }
+  get cookie() {
+    return [...this.jar.values()].join('; ');
+  }
+  async request(url: string, init: RequestInit = {}) {
+    const res = await fetch(url, { ...init, headers: { ...(init.headers as Record<string, string>), cookie: this.cookie } });
+    this.keep(res);
+    return res;
+  }
+  async csrf(base: string) {
+    return (await (await this.request(`${base}/api/auth/csrf`)).json()).csrfToken as string;
+  }
+  async post(base: string, path: string, body: unknown, token: string) {
+    return this.request(`${base}${path}`, { method: 'POST', headers: { 'content-type': 'application/json', 'x-csrf-token': token }, body: JSON.stringify(body) });
+  }
+}
+
+describe('two app processes on one database', () => {
+  it('signs in on one and continues on the other, CSRF token included', async () => {
+    const company = await createCompany(t.knex, 'Kittiwake Stack Testing');
+    const user = await createUser(t.knex, { companyId: company.id, roles: ['crew'] });
+    const browser = new Browser();
+    const [a, b] = urls;
+    const loginToken = await browser.csrf(a);
+    expect((await browser.post(a, '/api/auth/login', { email: user.email, password: user.password }, loginToken)).status).toBe(200);
+    const me = await browser.request(`${b}/api/auth/me`);
+    expect(me.status).toBe(200);
+    expect((await me.json()).user.email).toBe(user.email);
+    // A token issued by one process is honoured by the other: both derive it from the shared secret and session.
+    const token = await browser.csrf(a);
+    const run = await browser.post(b, '/api/calculations/diluent-correction', { inputs: { concentration: 42, measuredO2_pct: 9, referenceO2_pct: 3 }, save: true }, token);
+    expect(run.status).toBe(200);
+    expect((await browser.request(`${a}/api/calculation-runs`).then((r) => r.json())).total).toBe(1);
+    // Signing out on one ends the session on both.
+    expect((await browser.post(b, '/api/auth/logout', {}, token)).status).toBe(204);
+    expect((await browser.request(`${a}/api/auth/me`)).status).toBe(401);
+  });
+});
