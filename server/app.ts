@@ -62,6 +62,8 @@ export function createApp(ctx: AppContext): CreatedApp {
   sessionPool.on('error', (err) => ctx.logger.warn({ err }, 'session pool error'));
   const PgStore = connectPgSimple(session);
 
+  // Webhook signatures are computed over the exact bytes sent, so that one path keeps its raw body.
+  app.use('/api/webhooks/stripe', express.raw({ type: () => true, limit: '1mb' }));
   app.use('/api', express.json({ limit: '100kb' }));
   app.use(cookieParser());
   app.use(
@@ -109,7 +111,8 @@ export function createApp(ctx: AppContext): CreatedApp {
     cookieOptions: { sameSite: 'lax', secure: config.secureCookies, httpOnly: true, path: '/' },
     getCsrfTokenFromRequest: (req) => req.headers['x-csrf-token'] as string | undefined,
     // Webhooks carry their own signature; there is no browser session to protect.
-    skipCsrfProtection: (req) => req.path.startsWith('/api/webhooks/'),
+    // (Mounted under /api, req.path has lost that prefix; originalUrl has not.)
+    skipCsrfProtection: (req) => req.originalUrl.startsWith('/api/webhooks/'),
   });
   app.use('/api', (_req, res, next) => {
     res.locals.generateCsrfToken = generateCsrfToken;

@@ -13,6 +13,8 @@ export interface AppConfig {
   mailInboxUrl?: string;
   stripe: { secretKey: string; webhookSecret: string; host?: string; port?: number; protocol?: 'http' | 'https' };
   loginRateLimit: { windowMs: number; max: number };
+  /** Public certificate checks (number lookups and PDF checks) per caller address. */
+  verifyRateLimit: { windowMs: number; max: number };
   serveClient: boolean;
   logLevel: string;
 }
@@ -51,6 +53,7 @@ export function loadConfig(env: NodeJS.ProcessEnv = process.env): AppConfig {
       protocol: stripeUrl ? (stripeUrl.protocol.replace(':', '') as 'http' | 'https') : undefined,
     },
     loginRateLimit: { windowMs: int(env.LOGIN_RATE_WINDOW_MS, 15 * 60_000), max: int(env.LOGIN_RATE_MAX, 10) },
+    verifyRateLimit: { windowMs: int(env.VERIFY_RATE_WINDOW_MS, 60_000), max: int(env.VERIFY_RATE_MAX, 60) },
     serveClient: env.SERVE_CLIENT === 'true' || mode === 'production',
     logLevel: env.LOG_LEVEL ?? (mode === 'test' ? 'silent' : 'info'),
   };

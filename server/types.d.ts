@@ -12,6 +12,7 @@ declare global {
       /** The membership a role-restricted route runs under (the active company, or the company in the path). */
       membership?: { companyId: string; roles: Role[] };
       /** Parsed and validated request parts, set by the validation middleware. */
+      // eslint-disable-next-line @typescript-eslint/no-explicit-any -- each route's own zod schema decides these shapes
       valid: { body: any; query: any; params: any };
     }
   }

@@ -11,6 +11,9 @@ import { startMailCatcher, startPaymentFake, stopChild, type RunningService } fr
 import { DEMO_PASSWORD, demoSignIns, seedDemo } from './demo-data';
 import { createDb, migrateLatest } from '../db';
 import { syncOnStart } from './sync';
+import { seedDemoBilling } from './demo-billing';
+import { seedDemoCertificates } from './demo-certificates';
+import { seedDemoReadiness } from './demo-readiness';
 
 const ROOT = path.resolve(import.meta.dirname, '../..');
 const DATA = path.join(ROOT, '.data');
@@ -87,6 +90,9 @@ async function main() {
   await migrateLatest(knex);
   const seeded = await seedDemo(knex);
   await syncOnStart(knex);
+  console.log(await seedDemoBilling(knex).catch((error: Error) => `Demo billing: not set up (${error.message}).`));
+  await seedDemoCertificates(knex, appUrl);
+  await seedDemoReadiness(knex);
   await knex.destroy();
 
   if (devMode) {

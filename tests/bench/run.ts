@@ -6,6 +6,7 @@
 import fs from 'node:fs';
 import path from 'node:path';
 import zlib from 'node:zlib';
+import { randomUUID } from 'node:crypto';
 import { fork, type ChildProcess } from 'node:child_process';
 import { freePort } from '../../server/dev/exec';
 import { dropDatabase, ensureDatabase, startCluster } from '../../server/dev/postgres';
@@ -14,7 +15,9 @@ import { createDb, migrateLatest } from '../../server/db';
 import { syncOnStart } from '../../server/dev/sync';
 import { hashPassword } from '../../server/services/passwords';
 import { calculate } from '../../server/engine';
+import { drillTemplates } from '../../server/engine/drills';
 import { measureHttp } from './measure';
+import { READINESS_MANAGER, READINESS_MEMBERS, seedReadinessCompany, timeReadiness } from './readiness';
 
 const ROOT = path.resolve(import.meta.dirname, '../..');
 const DURATION = Number(process.env.BENCH_SECONDS ?? 8);
@@ -86,6 +89,25 @@ async function signIn(baseUrl: string, email: string, password: string) {
   return { cookie: jar.join('; '), csrf: token };
 }
 
+/**
+ * Practice attempts of every drill, in turn, with their right answers: each is submitted exactly
+ * once during the run, so every request grades a fresh attempt and stores its result.
+ */
+async function seedDrillAttempts(knex: ReturnType<typeof createDb>, userId: string, companyId: string, count: number) {
+  const pool: { id: string; body: string }[] = [];
+  const rows: Record<string, unknown>[] = [];
+  for (let i = 0; i < count; i++) {
+    const template = drillTemplates[i % drillTemplates.length];
+    const seed = Math.imul(i + 1, 2654435761) >>> 0;
+    const expected = template.solve(template.generate(seed)).expected;
+    const id = randomUUID();
+    rows.push({ id, user_id: userId, company_id: companyId, drill_id: template.id, seed, mode: 'practice' });
+    pool.push({ id, body: JSON.stringify({ answers: Object.fromEntries(template.fields.map((f) => [f.key, expected[f.key].toPrecision(6)])) }) });
+  }
+  for (let i = 0; i < rows.length; i += 1000) await knex('drill_attempts').insert(rows.slice(i, i + 1000));
+  return pool;
+}
+
 async function main() {
   const children: ChildProcess[] = [];
   const cluster = await startCluster({ baseDir: path.join(ROOT, '.data/postgres-bench'), port: await freePort(), throwaway: true, log: (m) => console.log(`[bench] postgres: ${m}`) });
@@ -99,6 +121,8 @@ async function main() {
     const [company] = await knex('companies').insert({ name: 'Bench Stack Testing' }).returning('id');
     const [user] = await knex('users').insert({ email: 'bench@bench.plumewright.example', name: 'Bench Crew', password_hash: await hashPassword('bench-password-1') }).returning('id');
     await knex('memberships').insert({ user_id: user.id, company_id: company.id, roles: ['crew'] });
+    console.log(`[bench] seeding a company of ${READINESS_MEMBERS} crew members for the readiness matrix…`);
+    const readinessSeed = await seedReadinessCompany(knex);
 
     console.log('[bench] engine micro-benchmark…');
     atLeast('engine-calls-per-s', Math.round(engineCallsPerSecond()), 'calls/s', 50_000);
@@ -108,7 +132,7 @@ async function main() {
     children.push(await startChild('bare-express.ts', { PORT: String(expressPort) }));
     children.push(await startChild('app-server.ts', {
       NODE_ENV: 'production', DATABASE_URL: databaseUrl, PORT: String(appPort), LOG_LEVEL: 'warn', SERVE_CLIENT: 'false',
-      SESSION_SECRET: 'bench-session-secret', LOGIN_RATE_MAX: '100000', MIGRATE_ON_START: 'false', SMTP_PORT: '9',
+      SESSION_SECRET: 'bench-session-secret', LOGIN_RATE_MAX: '100000', MIGRATE_ON_START: 'false', SMTP_PORT: '9', JOBS: 'off',
     }));
     const appUrl = `http://127.0.0.1:${appPort}`;
 
@@ -127,6 +151,47 @@ async function main() {
     if (calc.non2xx || calc.errors) throw new Error(`calculation route answered ${calc.non2xx} non-2xx and ${calc.errors} errors`);
     atLeast('calc-route-ratio', +(calc.requestsPerSecond / bareExpress.requestsPerSecond).toFixed(3), 'x bare Express', 0.5, `${Math.round(calc.requestsPerSecond)} req/s`);
     atMost('calc-route-p99-ms', calc.p99Ms, 'ms', 50);
+
+    // Drill submission: grade + store. Enough attempts for the run at the calculation route's pace
+    // (a submission does more work than a calculation); one that fails or runs short fails the row.
+    const poolSize = Math.min(80_000, Math.ceil(calc.requestsPerSecond * DURATION * 1.3) + 1_000);
+    console.log(`[bench] drill submission: seeding ${poolSize} attempts with their right answers…`);
+    const pool = await seedDrillAttempts(knex, user.id, company.id, poolSize);
+    let next = 0;
+    const started = performance.now();
+    const drill = await measureHttp({
+      url: appUrl, method: 'POST', durationSeconds: DURATION,
+      headers: { 'content-type': 'application/json', cookie: session.cookie, 'x-csrf-token': session.csrf },
+      requests: [{
+        method: 'POST',
+        setupRequest: (req) => {
+          // Past the end of the pool the request names no attempt, answers 404, and fails the row.
+          const attempt = pool[next++] ?? { id: '00000000-0000-4000-8000-000000000000', body: '{"answers":{}}' };
+          return { ...req, path: `/api/drill-attempts/${attempt.id}/submission`, body: attempt.body };
+        },
+      }],
+    });
+    const elapsedSeconds = (performance.now() - started) / 1000;
+    // The bench member has no other practice attempts: what is stored came from this run.
+    const mine = () => knex('drill_attempts').where({ user_id: user.id, mode: 'practice' }).whereNotNull('submitted_at');
+    const [{ stored }] = await mine().count<{ stored: number }[]>('* as stored');
+    const [{ perfect }] = await mine().where({ score: 100 }).count<{ perfect: number }[]>('* as perfect');
+    const drillOk = drill.non2xx === 0 && drill.errors === 0 && Number(perfect) === Number(stored);
+    // Only stored submissions count, over the run's wall time.
+    const drillRps = Number(stored) / elapsedSeconds;
+    const drillNote = `${Math.round(drillRps)} stored/s, ${stored} graded of ${pool.length} seeded` + (drillOk ? '' : `; ${drill.non2xx} non-2xx, ${drill.errors} errors, ${Number(stored) - Number(perfect)} below 100`);
+    rows.push({ name: 'drill-submit-ratio', value: +(drillRps / bareExpress.requestsPerSecond).toFixed(3), unit: 'x bare Express', target: '>= 0.1', pass: drillOk && drillRps / bareExpress.requestsPerSecond >= 0.1, note: drillNote });
+    atMost('drill-submit-p99-ms', drill.p99Ms, 'ms', 100);
+
+    console.log('[bench] readiness matrix, 50 sequential requests per variant…');
+    const manager = await signIn(appUrl, READINESS_MANAGER.email, READINESS_MANAGER.password);
+    const plain = await timeReadiness(`${appUrl}/api/readiness?page=1&pageSize=50`, manager.cookie);
+    if (plain.total !== READINESS_MEMBERS) throw new Error(`readiness listed ${plain.total} members, expected ${READINESS_MEMBERS}`);
+    atMost('readiness-5000-median-ms', plain.medianMs, 'ms', 150, `${READINESS_MEMBERS} members × 6 areas, ${readinessSeed.certificates} certificates`);
+    const sorted = await timeReadiness(`${appUrl}/api/readiness?page=3&pageSize=50&sort=particulate&order=asc`, manager.cookie);
+    atMost('readiness-5000-sort-area-ms', sorted.medianMs, 'ms', 150, 'sorted by particulate expiry, page 3');
+    const filtered = await timeReadiness(`${appUrl}/api/readiness?page=1&pageSize=50&status=expiring&crew=Crew%203`, manager.cookie);
+    atMost('readiness-5000-filter-ms', filtered.medianMs, 'ms', 150, `status=expiring, one crew: ${filtered.total} rows`);
 
     atMost('entry-js-gzip-kb', +entryJsGzipKb().toFixed(1), 'KB', 150);
     await knex.destroy();

@@ -5,6 +5,7 @@ import { loadConfig, type AppConfig } from '../../server/config';
 import type { AppContext } from '../../server/context';
 import { bindModels, createDb } from '../../server/db';
 import { createMailer } from '../../server/mail/mailer';
+import { withEmailLog } from '../../server/services/email-log';
 import { createTestDatabase } from './db';
 
 export interface TestApp {
@@ -26,7 +27,8 @@ export async function createTestApp(overrides: Partial<AppConfig> = {}, env: Nod
   const logger = pino({ level: process.env.TEST_LOG_LEVEL ?? 'silent' });
   const knex = createDb(db.url, { min: 0, max: 10 });
   bindModels(knex);
-  const mailer = createMailer(config, logger);
+  // As in server/index.ts: every message is written to the e-mail log.
+  const mailer = withEmailLog(knex, createMailer(config, logger), logger);
   const ctx: AppContext = { config, knex, logger, mailer };
   const created = createApp(ctx);
   return {
