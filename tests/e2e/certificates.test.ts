@@ -57,7 +57,7 @@ describe('journey 4: an auditor checks a certificate number and its PDF', () => 
     expect(await card.textContent()).toContain('Instrumental gas analysis');
     await screenshot(page, 'certificates-mine-desktop');
     await expectAccessible(page, 'my certificates');
-    const [download] = await Promise.all([page.waitForEvent('download', { timeout: 20_000 }), card.getByRole('link', { name: /Download the .* certificate PDF/ }).click()]);
+    const [download] = await Promise.all([page.waitForEvent('download', { timeout: 20_000 }), card.getByRole('link', { name: /^Download PDF: / }).click()]);
     pdf = fs.readFileSync((await download.path())!);
     expect(pdf.subarray(0, 5).toString('latin1')).toBe('%PDF-');
     expect(download.suggestedFilename()).toBe(`plumewright-certificate-${number}.pdf`);
