@@ -27,6 +27,8 @@ export default defineConfig({
           environment: 'node',
           setupFiles: ['tests/helpers/require-services.ts'],
           fileParallelism: false,
+          // A browser step that times out on a busy machine gets one more try; a real failure fails twice.
+          retry: 1,
           testTimeout: 120_000,
           hookTimeout: 180_000,
         },

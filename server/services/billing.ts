@@ -207,7 +207,7 @@ export async function applySubscription(
   }
   const item = subscription.items.data[0];
   const interval: string | undefined = item?.price.recurring?.interval;
-  const next: Partial<SubscriptionRow> & { updated_at: Knex.Raw } = {
+  const next: Partial<SubscriptionRow> = {
     stripe_customer_id: customer,
     stripe_subscription_id: subscription.id,
     stripe_price_id: item?.price.id ?? null,
@@ -218,12 +218,11 @@ export async function applySubscription(
     cancel_at_period_end: subscription.cancel_at_period_end,
     cancel_at: toDate(subscription.cancel_at),
     subscription_created: toDate(subscription.created),
-    updated_at: trx.fn.now() as unknown as Knex.Raw,
   };
   if (opts.eventCreated && (!row.updated_from_event_created || opts.eventCreated > row.updated_from_event_created)) {
     next.updated_from_event_created = opts.eventCreated;
   }
-  await trx('subscriptions').where({ company_id: companyId }).update(next);
+  await trx('subscriptions').where({ company_id: companyId }).update({ ...next, updated_at: trx.fn.now() });
   const updated = { ...row, ...next } as SubscriptionRow;
 
   const before = seatTotal(row);

@@ -15,7 +15,7 @@ import { addDays, companyClock, daysBetween, isoWeek, isValidTimeZone, listAreas
  * For each customer company, in its own time zone:
  * - Without an explicit day (`asOf`), a company is handled only from SEND_FROM_HOUR local time, so
  *   mail arrives in the morning whatever the zone; the job runs hourly and the unique keys below
- *   make every later run that day a no-op.
+ *   make every later run that day a no-op. An operator's "run now" skips the hour check.
  * - Expiry reminders: for each member's best valid certificate with 0..90 days left, the reminder
  *   whose window holds today: expiry-90 for 90..31 days left, expiry-30 for 30..8, expiry-7 for
  *   7..0. A window opens exactly on expiry − 90/30/7 days; a missed day (the platform was down) is

@@ -4,7 +4,7 @@ import { DESKTOP, PHONE, expectAccessible, launchBrowser, openPage, screenshot }
 import { TestAgent } from '../helpers/agent';
 import { uniqueEmail } from '../helpers/factory';
 import { linkIn, waitForMail } from '../helpers/mail';
-import { startBillingStack, type BillingStack } from '../helpers/billing';
+import { eventually, startBillingStack, type BillingStack } from '../helpers/billing';
 
 /**
  * Journeys 1, 2 and 6 of the product brief, in a real browser against the app and the payment fake:
@@ -175,6 +175,13 @@ describe('journey 6: below the seats in use is refused; cancelling keeps access 
 
     // A month later the payment service ends the subscription.
     await stack.advanceClock(32 * 86_400);
+    // On a busy machine the "subscription ended" webhook can take a while; the page shows it once it has landed.
+    const ended = await eventually(
+      async () => (await stack.server.knex('subscriptions as s').join('companies as c', 'c.id', 's.company_id').where('c.name', 'Thistlegate Emissions Lab').first('s.status'))?.status,
+      (status) => status === 'canceled',
+      60_000,
+    );
+    expect(ended).toBe('canceled');
     await page.reload();
     await page.getByRole('heading', { name: 'Your plan has ended' }).waitFor(WAIT);
     await screenshot(page, 'billing-plan-ended');
