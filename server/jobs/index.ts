@@ -24,8 +24,19 @@ export async function startJobs(ctx: AppContext, opts: { schedule?: boolean; pol
   const boss = new PgBoss({ connectionString: ctx.config.databaseUrl, schema: 'pgboss', max: 4, application_name: 'plumewright-jobs' });
   boss.on('error', (err) => ctx.logger.error({ err }, 'job queue error'));
   await boss.start();
-  await boss.createQueue(QUEUES.scan, { name: QUEUES.scan, retryLimit: 2, retryDelay: 300, expireInSeconds: 15 * 60 });
-  await boss.createQueue(QUEUES.deliver, { name: QUEUES.deliver, retryLimit: 0, expireInSeconds: 10 * 60 });
+  // Two processes starting together can deadlock creating the same queue; the loser simply tries again.
+  const createQueue = async (name: string, options: Parameters<PgBoss['createQueue']>[1]) => {
+    for (let attempt = 1; ; attempt++) {
+      try {
+        return await boss.createQueue(name, options);
+      } catch (error) {
+        if ((error as { code?: string }).code !== '40P01' || attempt >= 5) throw error;
+        await new Promise((r) => setTimeout(r, 100 * attempt));
+      }
+    }
+  };
+  await createQueue(QUEUES.scan, { name: QUEUES.scan, retryLimit: 2, retryDelay: 300, expireInSeconds: 15 * 60 });
+  await createQueue(QUEUES.deliver, { name: QUEUES.deliver, retryLimit: 0, expireInSeconds: 10 * 60 });
   if (opts.schedule !== false) {
     // Hourly in UTC: each company's own morning comes round once a day whatever its zone.
     await boss.schedule(QUEUES.scan, '5 * * * *', {}, { tz: 'UTC' });
