@@ -10,10 +10,6 @@ export type CellStatus = (typeof cellStatuses)[number];
 
 /** A certificate can be renewed from this many days before its expiry; the same span marks a cell `expiring`. */
 export const RENEWAL_WINDOW_DAYS = 90;
-/** Expiry reminders go out this many days before the last valid day. */
-export const REMINDER_DAYS = [90, 30, 7] as const;
-
-const ISO_DATE = /^\d{4}-\d{2}-\d{2}$/;
 export const isoDate = (what = 'a date') =>
   z.iso.date({ error: `must be ${what} written YYYY-MM-DD, e.g. 2027-03-01` });
 
@@ -250,5 +246,3 @@ export interface ScanSummary {
 export const timeZoneBodySchema = z.object({
   timeZone: z.string({ error: 'must be a time zone name' }).trim().min(1, 'must not be empty').max(64, 'must be at most 64 characters'),
 });
-
-export const isIsoDate = (value: string) => ISO_DATE.test(value);

@@ -82,11 +82,6 @@ export function isoWeek(date: string): string {
   return `${day.getUTCFullYear()}-W${String(week).padStart(2, '0')}`;
 }
 
-export function statusFor(inForceUntil: string | null, lapsedOn: string | null, today: string): CellStatus {
-  if (inForceUntil) return inForceUntil <= addDays(today, RENEWAL_WINDOW_DAYS) ? 'expiring' : 'current';
-  return lapsedOn ? 'expired' : 'none';
-}
-
 export async function companyTimeZone(knex: Knex, companyId: string): Promise<string> {
   const row = await knex('companies').where({ id: companyId }).first('time_zone');
   return row?.time_zone ?? 'UTC';
@@ -300,17 +295,19 @@ function orderClause(sort: string, order: 'asc' | 'desc', areas: ReadinessArea[]
   return { sql: `order by g.e${index} ${dir} nulls last, g.name, g.user_id`, areaIndex: index };
 }
 
-/** The company's clock and the area catalogue in one round trip (every readiness request needs both). */
+/** The company's clock, the area catalogue and the crew names in one round trip (every matrix request needs them). */
 async function clockAndAreas(knex: Knex, companyId: string, now: Date) {
   const row = (
     await knex.raw(
       `select (select time_zone from companies where id = ?) as time_zone,
-              coalesce((select json_agg(json_build_object('id', id, 'name', name) order by sort_order) from areas), '[]') as areas`,
-      [companyId],
+              coalesce((select json_agg(json_build_object('id', id, 'name', name) order by sort_order) from areas), '[]') as areas,
+              coalesce((select json_agg(crew order by crew) from (
+                select distinct crew from memberships where company_id = ? and crew is not null and roles @> array['crew']::text[]) c), '[]') as crews`,
+      [companyId, companyId],
     )
-  ).rows[0] as { time_zone: string | null; areas: ReadinessArea[] };
+  ).rows[0] as { time_zone: string | null; areas: ReadinessArea[]; crews: string[] };
   const timeZone = row.time_zone ?? 'UTC';
-  return { timeZone, today: todayIn(timeZone, now), areas: row.areas };
+  return { timeZone, today: todayIn(timeZone, now), areas: row.areas, crews: row.crews };
 }
 
 export async function readinessPage(
@@ -325,10 +322,7 @@ export async function readinessPage(
   const order = orderClause(q.sort, q.order, areas);
   const options: GridOptions = { companyId, today, areaIds: areas.map((a) => a.id), crew: q.crew, search: q.search, statuses: q.status };
   const page = pageQuery(options, order.areaIndex, order.sql, q.pageSize, (q.page - 1) * q.pageSize);
-  const [result, crews] = await Promise.all([
-    knex.raw(page.sql, page.bindings),
-    knex('memberships').where({ company_id: companyId }).whereNotNull('crew').whereRaw("roles @> array['crew']::text[]").distinct('crew').orderBy('crew').pluck('crew'),
-  ]);
+  const result = await knex.raw(page.sql, page.bindings);
   const rows = result.rows as GridRow[];
   let total = Number(rows[0]?.total ?? 0);
   if (!rows.length && q.page > 1) {
@@ -336,7 +330,7 @@ export async function readinessPage(
     const all = gridQuery(options);
     total = Number((await knex.raw(`${all.sql} select count(*) as total from g`, all.bindings)).rows[0].total);
   }
-  return { areas, rows: rows.map((r) => toRow(r, areas)), total, page: q.page, pageSize: q.pageSize, today, timeZone, crews };
+  return { areas, rows: rows.map((r) => toRow(r, areas)), total, page: q.page, pageSize: q.pageSize, today, timeZone, crews: clock.crews };
 }
 
 /** Every row matching the filters, for the CSV export and the job check. */
