@@ -77,3 +77,52 @@ describe('two app processes on one database', () => {
     expect((await browser.request(`${a}/api/auth/me`)).status).toBe(401);
   });
 });
+
+describe('the cache of sessions and users each process keeps', () => {
+  const listeners = async () =>
+    Number((await t.knex.raw("select count(*)::int as n from pg_stat_activity where application_name = 'plumewright-auth-cache' and datname = current_database()")).rows[0].n);
+
+  async function signedInOnBoth(roles: ('crew' | 'manager')[]) {
+    const company = await createCompany(t.knex, 'Guillemot Emission Services');
+    const user = await createUser(t.knex, { companyId: company.id, roles });
+    const browser = new Browser();
+    const [a, b] = urls;
+    expect((await browser.post(a, '/api/auth/login', { email: user.email, password: user.password }, await browser.csrf(a))).status).toBe(200);
+    // Read the session and the user on both, so both processes hold them.
+    for (const base of [a, b]) expect((await browser.request(`${base}/api/auth/me`)).status).toBe(200);
+    return { company, user, browser };
+  }
+
+  it('listens on both processes', async () => {
+    await expect.poll(listeners, { timeout: 5_000 }).toBe(2);
+  });
+
+  it('sees a role taken away in the database on both processes', async () => {
+    await expect.poll(listeners, { timeout: 5_000 }).toBe(2);
+    const { user, browser } = await signedInOnBoth(['crew', 'manager']);
+    const readiness = (base: string) => browser.request(`${base}/api/readiness?page=1&pageSize=10`).then((r) => r.status);
+    for (const base of urls) expect(await readiness(base)).not.toBe(403);
+    await t.knex('memberships').where({ user_id: user.id }).update({ roles: ['crew'] });
+    for (const base of urls) await expect.poll(() => readiness(base), { timeout: 2_000, interval: 20 }).toBe(403);
+  });
+
+  it('signs a disabled user out on both processes', async () => {
+    await expect.poll(listeners, { timeout: 5_000 }).toBe(2);
+    const { user, browser } = await signedInOnBoth(['crew']);
+    await t.knex('users').where({ id: user.id }).update({ disabled_at: t.knex.fn.now() });
+    for (const base of urls) await expect.poll(() => browser.request(`${base}/api/auth/me`).then((r) => r.status), { timeout: 2_000, interval: 20 }).toBe(401);
+  });
+
+  it('reads the database again while it cannot listen, so no change is missed', async () => {
+    await expect.poll(listeners, { timeout: 5_000 }).toBe(2);
+    const { user, browser } = await signedInOnBoth(['crew']);
+    await t.knex.raw("select pg_terminate_backend(pid) from pg_stat_activity where application_name = 'plumewright-auth-cache' and datname = current_database()");
+    await expect.poll(listeners, { timeout: 2_000, interval: 5 }).toBe(0);
+    await new Promise((r) => setTimeout(r, 30)); // the processes read the closed connection; they retry after 250 ms
+    // Changed while nobody listens: no notice reaches either process, yet both answer from the database.
+    await t.knex('users').where({ id: user.id }).update({ name: 'Renamed While Deaf' });
+    for (const base of urls) expect((await (await browser.request(`${base}/api/auth/me`)).json()).user.name).toBe('Renamed While Deaf');
+    // And both listen again afterwards.
+    await expect.poll(listeners, { timeout: 10_000 }).toBe(2);
+  });
+});

@@ -5,6 +5,8 @@ export interface HttpFigures {
   p99Ms: number;
   non2xx: number;
   errors: number;
+  /** Answers received over the run. */
+  requests: number;
 }
 
 export async function measureHttp(opts: {
@@ -30,6 +32,7 @@ export async function measureHttp(opts: {
     p99Ms: result.latency.p99,
     non2xx: result.non2xx,
     errors: result.errors + result.timeouts,
+    requests: result.requests.total,
   };
 }
 

@@ -15,6 +15,9 @@ import { createDb, migrateLatest } from '../../server/db';
 import { syncOnStart } from '../../server/dev/sync';
 import { hashPassword } from '../../server/services/passwords';
 import { calculate } from '../../server/engine';
+import { issueCertificateForPass } from '../../server/services/certificates';
+import { renderCertificatePdf, sampleCertificateInput, sha256Hex } from '../../server/pdf/certificate';
+import { generateCertificateNumber } from '../../server/services/certificate-number';
 import { drillTemplates } from '../../server/engine/drills';
 import { measureHttp } from './measure';
 import { READINESS_MANAGER, READINESS_MEMBERS, seedReadinessCompany, timeReadiness } from './readiness';
@@ -55,6 +58,26 @@ function engineCallsPerSecond() {
     calls += 500;
   }
   return calls / ((performance.now() - started) / 1000);
+}
+
+/** Certificate PDFs rendered one after another (pdfkit is single-threaded), each with its own holder and number. */
+async function pdfTimings(count: number) {
+  const names = ['Juniper Vasquez-Holm', 'Oskar Thistlewood', 'Marisol Quenby', 'Tobiah Ferncastle', 'Ines Halloran-Pike'];
+  const areas = [['Particulate sampling', ['Method 5']], ['Flow and moisture', ['Method 1', 'Method 2', 'Method 3', 'Method 4']], ['Instrumental gas analysis', ['Method 3A', 'Method 6C', 'Method 7E', 'Method 10']]] as const;
+  const times: number[] = [];
+  const hashes = new Set<string>();
+  const started = performance.now();
+  for (let i = 0; i < count; i++) {
+    const [areaName, methods] = areas[i % areas.length];
+    const number = generateCertificateNumber();
+    const t0 = performance.now();
+    const pdf = await renderCertificatePdf(sampleCertificateInput({ number, holderName: `${names[i % names.length]} ${i}`, areaName, methods: [...methods], verifyUrl: `http://127.0.0.1:3000/verify/${number}` }));
+    hashes.add(sha256Hex(pdf));
+    times.push(performance.now() - t0);
+  }
+  if (hashes.size !== count) throw new Error(`certificate PDFs: ${count - hashes.size} duplicates among ${count}`);
+  times.sort((a, b) => a - b);
+  return { medianMs: times[Math.floor(times.length / 2)], totalSeconds: (performance.now() - started) / 1000 };
 }
 
 function entryJsGzipKb() {
@@ -132,7 +155,7 @@ async function main() {
     children.push(await startChild('bare-express.ts', { PORT: String(expressPort) }));
     children.push(await startChild('app-server.ts', {
       NODE_ENV: 'production', DATABASE_URL: databaseUrl, PORT: String(appPort), LOG_LEVEL: 'warn', SERVE_CLIENT: 'false',
-      SESSION_SECRET: 'bench-session-secret', LOGIN_RATE_MAX: '100000', MIGRATE_ON_START: 'false', SMTP_PORT: '9', JOBS: 'off',
+      SESSION_SECRET: 'bench-session-secret', LOGIN_RATE_MAX: '100000', VERIFY_RATE_MAX: '100000000', MIGRATE_ON_START: 'false', SMTP_PORT: '9', JOBS: 'off',
     }));
     const appUrl = `http://127.0.0.1:${appPort}`;
 
@@ -182,6 +205,32 @@ async function main() {
     const drillNote = `${Math.round(drillRps)} graded and stored/s, ${stored} of ${pool.length} seeded` + (drillOk ? '' : `; ${drill.non2xx} non-2xx, ${drill.errors} errors, ${stored - perfect} below 100`);
     rows.push({ name: 'drill-submit-ratio', value: +(drillRps / bareExpress.requestsPerSecond).toFixed(3), unit: 'x bare Express', target: '>= 0.1', pass: drillOk && drillRps / bareExpress.requestsPerSecond >= 0.1, note: drillNote });
     atMost('drill-submit-p99-ms', drill.p99Ms, 'ms', 100);
+
+    // Public verification of one issued certificate: lookup, status and the lookup log, no session.
+    const [pass] = await knex('exam_passes').insert({ user_id: user.id, company_id: company.id, area_id: 'particulate', score_pct: 88, duration_seconds: 2_700, passed_at: new Date() }).returning('id');
+    const issued = await issueCertificateForPass({ knex, config: { appUrl } }, pass.id);
+    const number = issued.certificate?.number;
+    if (!number) throw new Error('bench certificate was not issued');
+    const logBefore = Number((await knex('verification_log').count<{ count: string }[]>('* as count'))[0].count);
+    const verify = await measureHttp({ url: `${appUrl}/api/verify/${encodeURIComponent(number.toLowerCase().replaceAll('-', ' '))}`, durationSeconds: DURATION });
+    if (verify.non2xx || verify.errors) throw new Error(`verification route answered ${verify.non2xx} non-2xx and ${verify.errors} errors`);
+    // Every lookup is logged: wait for the log to hold them all (it is written in batches).
+    const deadline = Date.now() + 10_000;
+    let logged = 0;
+    while (Date.now() < deadline) {
+      logged = Number((await knex('verification_log').count<{ count: string }[]>('* as count'))[0].count) - logBefore;
+      if (logged >= verify.requests) break;
+      await new Promise((r) => setTimeout(r, 200));
+    }
+    const verifyRatio = +(verify.requestsPerSecond / bareExpress.requestsPerSecond).toFixed(3);
+    rows.push({ name: 'verify-route-ratio', value: verifyRatio, unit: 'x bare Express', target: '>= 0.6', pass: verifyRatio >= 0.6 && logged >= verify.requests, note: `${Math.round(verify.requestsPerSecond)} req/s, ${logged} of ${verify.requests} lookups logged` });
+    atMost('verify-route-p99-ms', verify.p99Ms, 'ms', 50);
+
+    console.log('[bench] certificate PDFs…');
+    const single = await pdfTimings(60);
+    atMost('pdf-median-ms', +single.medianMs.toFixed(1), 'ms', 80, 'median of 60 renders, embedded font and QR code');
+    const batch = await pdfTimings(1000);
+    atMost('pdf-batch-1000-s', +batch.totalSeconds.toFixed(1), 's', 60, '1,000 distinct certificates rendered and hashed in one process');
 
     console.log('[bench] readiness matrix, 50 sequential requests per variant…');
     const manager = await signIn(appUrl, READINESS_MANAGER.email, READINESS_MANAGER.password);
