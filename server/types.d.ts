@@ -6,11 +6,11 @@ declare global {
       id: string;
       email: string;
       name: string;
-      memberships: { companyId: string; companyName: string; companyKind: 'customer' | 'platform' | 'auditing'; roles: Role[] }[];
+      memberships: { companyId: string; companyName: string; companyKind: 'customer' | 'platform' | 'auditing'; roles: Role[]; seat: boolean }[];
     }
     interface Request {
       /** The membership a role-restricted route runs under (the active company, or the company in the path). */
-      membership?: { companyId: string; roles: Role[] };
+      membership?: { companyId: string; roles: Role[]; companyKind: 'customer' | 'platform' | 'auditing'; seat: boolean };
       /** Parsed and validated request parts, set by the validation middleware. */
       // eslint-disable-next-line @typescript-eslint/no-explicit-any -- each route's own zod schema decides these shapes
       valid: { body: any; query: any; params: any };

@@ -14,6 +14,8 @@ export interface MembershipView {
   companyName: string;
   companyKind: 'customer' | 'platform' | 'auditing';
   roles: Role[];
+  /** Holds a usable seat: assigned, and the company's subscription in good standing (customer companies only). */
+  seat: boolean;
 }
 
 export interface MeResponse {

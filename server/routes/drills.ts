@@ -5,6 +5,7 @@ import {
   freshSeed, getDrillAttempt, listDrillAttempts, listDrills, previewDrill, startDrillAttempt, submitDrillAttempt,
 } from '../services/drill-attempts';
 import type { RouteDef } from './types';
+import { requireSeat } from '../middleware/access';
 
 /** Roles that hold a seat and practise, plus platform staff (who check what the crews see). */
 export const DRILL_ROLES = ['crew', 'manager', 'admin', 'operator'] as const;
@@ -53,7 +54,7 @@ export function drillRoutes(ctx: AppContext): RouteDef[] {
     },
     {
       method: 'post', path: '/api/drills/:id/attempts', access: DRILL_ROLES, summary: 'Start a practice attempt on fresh numbers (the sheet and blank fields only)',
-      params: drillParams,
+      params: drillParams, before: [requireSeat],
       handler: (req) => startDrillAttempt(ctx.knex, { userId: req.user!.id, companyId: req.membership!.companyId }, req.valid.params.id),
     },
     {

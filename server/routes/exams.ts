@@ -5,6 +5,7 @@ import {
   DRAFT_TEXT_MAX, ExamInProgressError, getExamAttempt, listExamAttempts, listExams, saveDraft, startExam, submitExam,
 } from '../services/exams';
 import type { RouteDef } from './types';
+import { requireSeat } from '../middleware/access';
 
 /** Members who sit exams: those who hold a seat in a customer company (platform staff do not certify). */
 export const EXAM_ROLES = ['crew', 'manager', 'admin'] as const;
@@ -36,7 +37,7 @@ export function examRoutes(ctx: AppContext): RouteDef[] {
     },
     {
       method: 'post', path: '/api/exams/:areaId/attempts', access: EXAM_ROLES, summary: 'Start a timed exam attempt (409 with the running attempt id if one is active)',
-      params: areaParams,
+      params: areaParams, before: [requireSeat],
       handler: async (req, res) => {
         try {
           return await startExam(ctx, { userId: req.user!.id, companyId: req.membership!.companyId }, req.valid.params.areaId);

@@ -6,11 +6,12 @@ import type { Mailer, OutgoingMail } from '../mail/mailer';
 /*
  * Every e-mail the platform sends is a row in email_log, for operators.
  *
- * - Direct mail (invitations, password resets, receipts…): callers use ctx.mailer.send as always;
+ * - Direct mail (invitations, receipts, certificate notices…): callers use ctx.mailer.send as always;
  *   the wrapper from withEmailLog writes the row and marks it sent or failed. The caller handles
  *   its own failures; direct rows are never retried from here.
- * - Outbox mail (expiry reminders, digests): written as `queued` in the same transaction that
- *   decided to send it, then delivered after commit by deliverQueuedEmails. A row is claimed
+ * - Outbox mail (expiry reminders, digests, password reset links): written as `queued` in the same
+ *   transaction that decided to send it, then delivered after commit by deliverQueuedEmails (at once
+ *   for a single message a person is waiting for, by its ids; otherwise by the sweep). A row is claimed
  *   (`sending`) with FOR UPDATE SKIP LOCKED, so two processes never pick the same row. An SMTP
  *   failure marks it `failed` and it is retried with a growing delay, up to MAX_ATTEMPTS. A row left
  *   in `sending` by a crash is not retried (it may have gone out): it becomes `failed` with a note.
@@ -73,10 +74,10 @@ export interface QueuedMail {
   notificationId?: string | null;
 }
 
-/** Adds mail to the outbox inside the caller's transaction; nothing is sent until it commits. */
-export async function queueEmails(trx: Knex.Transaction, mails: QueuedMail[]) {
-  if (!mails.length) return;
-  await trx('email_log').insert(
+/** Adds mail to the outbox inside the caller's transaction; nothing is sent until it commits. Answers the row ids. */
+export async function queueEmails(trx: Knex.Transaction, mails: QueuedMail[]): Promise<number[]> {
+  if (!mails.length) return [];
+  const rows: { id: string | number }[] = await trx('email_log').insert(
     mails.map((m) => ({
       source: 'outbox',
       kind: m.kind,
@@ -88,11 +89,23 @@ export async function queueEmails(trx: Knex.Transaction, mails: QueuedMail[]) {
       company_id: m.companyId ?? null,
       notification_id: m.notificationId ?? null,
     })),
-  );
+  ).returning('id');
+  return rows.map((r) => Number(r.id));
 }
 
-/** Sends what is due in the outbox, at most `limit` rows per call. */
-export async function deliverQueuedEmails(knex: Knex, mailer: Mailer, logger: Logger, limit = 100) {
+/**
+ * Withdraws outbox mail to `to` of this kind that has not gone out yet (say, a reset link that a
+ * newer one replaced), so a retry never delivers it late. The rows stay in the log, failed, with the reason.
+ */
+export async function withdrawUnsentEmails(trx: Knex.Transaction, match: { to: string; kind: string }, reason: string) {
+  await trx('email_log')
+    .where({ source: 'outbox', to_address: match.to, kind: match.kind })
+    .where((q) => q.where('status', 'queued').orWhere((f) => f.where('status', 'failed').where('attempts', '<', MAX_ATTEMPTS)))
+    .update({ status: 'failed', attempts: MAX_ATTEMPTS, last_error: reason });
+}
+
+/** Sends what is due in the outbox, at most `limit` rows per call; only the rows `ids` when given. */
+export async function deliverQueuedEmails(knex: Knex, mailer: Mailer, logger: Logger, opts: { limit?: number; ids?: number[] } = {}) {
   const transport = rawMailer(mailer);
   await knex('email_log')
     .where({ source: 'outbox', status: 'sending' })
@@ -105,9 +118,10 @@ export async function deliverQueuedEmails(knex: Knex, mailer: Mailer, logger: Lo
        select id from email_log
        where source = 'outbox' and next_attempt_at <= now()
          and (status = 'queued' or (status = 'failed' and attempts < ?))
+         ${opts.ids ? 'and id = any(?)' : ''}
        order by id limit ? for update skip locked)
      returning id, to_address, subject, body_text, body_html, attempts`,
-    [MAX_ATTEMPTS, limit],
+    [MAX_ATTEMPTS, ...(opts.ids ? [opts.ids] : []), opts.limit ?? 100],
   );
   let sent = 0;
   let failed = 0;

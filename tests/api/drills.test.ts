@@ -23,17 +23,17 @@ beforeAll(async () => {
   t = await createTestApp();
   await syncContent(t.knex);
   const company = await createCompany(t.knex, 'Heronsgate Stack Testing');
-  const me = await createUser(t.knex, { companyId: company.id, roles: ['crew'] });
+  const me = await createUser(t.knex, { companyId: company.id, roles: ['crew'], seat: true });
   crewId = me.id;
   crew = await signedIn(t.app, me.email, me.password);
   const rival = await createCompany(t.knex, 'Dunmoor Emission Services');
-  const other = await createUser(t.knex, { companyId: rival.id, roles: ['crew'] });
+  const other = await createUser(t.knex, { companyId: rival.id, roles: ['crew'], seat: true });
   otherCrew = await signedIn(t.app, other.email, other.password);
   const platform = await createCompany(t.knex, 'Platform staff', 'platform');
-  const op = await createUser(t.knex, { companyId: platform.id, roles: ['operator'] });
+  const op = await createUser(t.knex, { companyId: platform.id, roles: ['operator'], seat: true });
   operator = await signedIn(t.app, op.email, op.password);
   const firm = await createCompany(t.knex, 'Gorse Lane Assessors', 'auditing');
-  const aud = await createUser(t.knex, { companyId: firm.id, roles: ['auditor'] });
+  const aud = await createUser(t.knex, { companyId: firm.id, roles: ['auditor'], seat: true });
   auditor = await signedIn(t.app, aud.email, aud.password);
 });
 afterAll(() => t.close());
@@ -301,5 +301,30 @@ describe('GET /api/drills/:id/preview (operators)', () => {
     expect(bad.body.error.fields[0].field).toBe('seed');
     expect((await operator.get('/api/drills/nope/preview?seed=1')).status).toBe(404);
     expect((await crew.get('/api/drills/traverse-layout/preview?seed=1')).status).toBe(403);
+  });
+});
+
+describe('seats: drills and exams start only for a member holding one', () => {
+  it('refuses a member without a seat with 403 no_seat, lets them in once assigned, and stops when the plan lapses', async () => {
+    const company = await createCompany(t.knex, 'Saltmarsh Flue Analysts');
+    const member = await createUser(t.knex, { companyId: company.id, roles: ['crew'] });
+    const agent = await signedIn(t.app, member.email, member.password);
+    for (const path of ['/api/drills/moisture-train/attempts', '/api/exams/flow-moisture/attempts']) {
+      const res = await agent.post(path);
+      expect(res.status, path).toBe(403);
+      expect(res.body.error.code, path).toBe('no_seat');
+      expect(res.body.error.message, path).toMatch(/seat/);
+    }
+    // Lessons and the calculators stay open without a seat.
+    expect((await agent.get('/api/drills')).status).toBe(200);
+    expect((await agent.post('/api/calculations/diluent-correction', { inputs: { concentration: 42, measuredO2_pct: 9, referenceO2_pct: 3 } })).status).toBe(200);
+
+    await t.knex('subscriptions').insert({ company_id: company.id, status: 'active', interval: 'month', quantity: 3, current_period_end: new Date(Date.now() + 20 * 86_400_000) });
+    await t.knex('memberships').where({ user_id: member.id }).update({ seat_status: 'assigned', seat_assigned_at: t.knex.fn.now() });
+    await expect.poll(async () => (await agent.post('/api/drills/moisture-train/attempts')).status, { timeout: 2_000, interval: 25 }).toBe(200);
+
+    // A cancelled plan keeps its seats to the end of the paid period, then they stop.
+    await t.knex('subscriptions').where({ company_id: company.id }).update({ cancel_at_period_end: true, current_period_end: new Date(Date.now() - 1000) });
+    await expect.poll(async () => (await agent.post('/api/drills/moisture-train/attempts')).status, { timeout: 2_000, interval: 25 }).toBe(403);
   });
 });

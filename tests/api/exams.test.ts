@@ -36,7 +36,7 @@ afterAll(async () => {
 
 /** A fresh crew member, signed in: every test has its own, so one active attempt per area never clashes. */
 async function crewMember(app = t.app) {
-  const user = await createUser(t.knex, { companyId, roles: ['crew'] });
+  const user = await createUser(t.knex, { companyId, roles: ['crew'], seat: true });
   return { user, agent: await signedIn(app, user.email, user.password) };
 }
 

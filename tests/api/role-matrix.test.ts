@@ -26,7 +26,7 @@ beforeAll(async () => {
     for (const role of roles) {
       const key = `${side}-${kindFor(role)}`;
       if (!companies.has(key)) companies.set(key, (await createCompany(t.knex, `Matrix ${key}`, kindFor(role))).id);
-      const user = await createUser(t.knex, { companyId: companies.get(key)!, roles: [role] });
+      const user = await createUser(t.knex, { companyId: companies.get(key)!, roles: [role], seat: true });
       (side === 'A' ? agentsA : agentsB).set(role, await signedIn(t.app, user.email, user.password));
     }
   }

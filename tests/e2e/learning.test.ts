@@ -62,7 +62,7 @@ const attemptIdOf = (page: Page) => new URL(page.url()).pathname.split('/').pop(
 
 describe('journey 3: lesson, drill with carried-forward credit, exam pass, certificate', () => {
   it('takes a crew member from a lesson to a downloaded certificate', async () => {
-    const member = await createUser(server.knex, { companyId, roles: ['crew'], name: 'Ines Marrowby' });
+    const member = await createUser(server.knex, { companyId, roles: ['crew'], seat: true, name: 'Ines Marrowby' });
     const { page, context, problems } = await openPage(browser, DESKTOP);
     await signIn(page, member.email, member.password);
 
@@ -148,7 +148,7 @@ describe('journey 3: lesson, drill with carried-forward credit, exam pass, certi
   });
 
   it('keeps an exam through a reload and says so when the time runs out (phone size)', async () => {
-    const member = await createUser(server.knex, { companyId, roles: ['crew'] });
+    const member = await createUser(server.knex, { companyId, roles: ['crew'], seat: true });
     const { page, context } = await openPage(browser, PHONE, 'dark');
     await signIn(page, member.email, member.password);
     await page.goto(`${server.url}/exams`);
@@ -195,7 +195,7 @@ describe('the exam runner by keyboard alone', () => {
   }
 
   it('signs in, starts, answers every question, submits and reads the result without a pointer', async () => {
-    const member = await createUser(server.knex, { companyId, roles: ['crew'] });
+    const member = await createUser(server.knex, { companyId, roles: ['crew'], seat: true });
     const { page, context } = await openPage(browser, DESKTOP);
     await page.goto(`${server.url}/sign-in`);
     await page.getByLabel('E-mail address').waitFor(WAIT);

@@ -35,10 +35,10 @@ beforeAll(async () => {
   await server.knex('companies').where({ id: companyId }).update({ time_zone: ZONE });
   today = todayIn(ZONE);
   const platform = await createCompany(server.knex, 'Plumewright Operations', 'platform');
-  people.manager = await createUser(server.knex, { companyId, roles: ['manager'], name: 'Halvard Quist' });
-  people.member = await createUser(server.knex, { companyId, roles: ['crew'], name: 'Odile Brannock' });
-  people.steady = await createUser(server.knex, { companyId, roles: ['crew'], name: 'Bertil Ossory' });
-  people.operator = await createUser(server.knex, { companyId: platform.id, roles: ['operator'], name: 'Ines Operator' });
+  people.manager = await createUser(server.knex, { companyId, roles: ['manager'], seat: true, name: 'Halvard Quist' });
+  people.member = await createUser(server.knex, { companyId, roles: ['crew'], seat: true, name: 'Odile Brannock' });
+  people.steady = await createUser(server.knex, { companyId, roles: ['crew'], seat: true, name: 'Bertil Ossory' });
+  people.operator = await createUser(server.knex, { companyId: platform.id, roles: ['operator'], seat: true, name: 'Ines Operator' });
   await setCrew(server.knex, people.member.id, companyId, 'North crew');
   await setCrew(server.knex, people.steady.id, companyId, 'North crew');
   // Odile's particulate certificate runs out in 45 days; Bertil's flow certificate has years left.
