@@ -19,6 +19,7 @@ import { createDb } from '../../server/db';
 import { createMailer } from '../../server/mail/mailer';
 import { getDrillTemplate } from '../../server/engine/drills';
 import { syncContent } from '../../server/services/content-sync';
+import { startJobs } from '../../server/jobs';
 
 let t: TestApp;
 let companyId: string;
@@ -388,5 +389,30 @@ describe('bad input', () => {
     // exam questions are not practice attempts either
     const question = await t.knex('drill_attempts').where({ exam_attempt_id: attempt.id }).first();
     expect((await owner.agent.post(`/api/drill-attempts/${question.id}/submission`, { answers: {} })).status).toBe(404);
+  });
+});
+
+describe('the scheduled exam sweep', () => {
+  it('closes an attempt nobody came back to, records the pass and issues the certificate, once', async () => {
+    const { user, agent } = await crewMember();
+    const { attempt } = (await startExam(agent, 'ambient-conversions')).body;
+    for (const q of await solvedQuestions(attempt.id)) {
+      await agent.send('put', `/api/exam-attempts/${attempt.id}/answers`, { questionIndex: q.index, answers: rightAnswers(q.expected) }).then((r) => expect(r.status).toBe(200));
+    }
+    await pastDeadline(attempt.id);
+    // A pass whose certificate was never issued (the process stopped in between) is picked up too.
+    await t.knex('exam_passes').insert({ user_id: user.id, company_id: companyId, area_id: 'particulate', score_pct: 91, duration_seconds: 3_100, passed_at: new Date(Date.now() - 3_600_000) });
+    const jobs = await startJobs(t.ctx, { schedule: false, pollingIntervalSeconds: 0.5 });
+    try {
+      await jobs.requestSweep();
+      await expect.poll(async () => (await t.knex('exam_attempts').where({ id: attempt.id }).first()).status, { timeout: 15_000, interval: 200 }).toBe('expired');
+      await expect.poll(async () => (await t.knex('certificates').where({ user_id: user.id }).pluck('area_id')).sort(), { timeout: 15_000, interval: 200 }).toEqual(['ambient-conversions', 'particulate']);
+      await jobs.requestSweep();
+      await new Promise((r) => setTimeout(r, 1_500));
+      expect(await t.knex('exam_passes').where({ user_id: user.id })).toHaveLength(2);
+      expect(await t.knex('certificates').where({ user_id: user.id })).toHaveLength(2);
+    } finally {
+      await jobs.stop();
+    }
   });
 });
