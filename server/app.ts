@@ -18,7 +18,7 @@ import { routeTable } from './routes';
 import type { RouteDef } from './routes/types';
 import { verifyPassword } from './services/passwords';
 import { loadSessionUser } from './services/users';
-import { AuthCache } from './services/auth-cache';
+import { ReadCache } from './services/read-cache';
 
 export interface CreatedApp {
   app: Express;
@@ -62,8 +62,9 @@ export function createApp(ctx: AppContext): CreatedApp {
   const sessionPool = new pg.Pool({ connectionString: config.databaseUrl, max: 5, connectionTimeoutMillis: 5_000 });
   sessionPool.on('error', (err) => ctx.logger.warn({ err }, 'session pool error'));
   const PgStore = connectPgSimple(session);
-  const authCache = new AuthCache({ databaseUrl: config.databaseUrl, ttlMs: config.authCacheSeconds * 1000, logger: ctx.logger });
-  void authCache.start();
+  const readCache = new ReadCache({ databaseUrl: config.databaseUrl, ttlMs: config.readCacheSeconds * 1000, logger: ctx.logger });
+  void readCache.start();
+  ctx.readCache = readCache;
 
   // Webhook signatures are computed over the exact bytes sent, so that one path keeps its raw body.
   app.use('/api/webhooks/stripe', express.raw({ type: () => true, limit: '1mb' }));
@@ -73,7 +74,7 @@ export function createApp(ctx: AppContext): CreatedApp {
     session({
       name: 'pw.sid',
       // No touch: a session lives 12 hours from sign-in (an absolute limit), and reads never write.
-      store: authCache.wrapStore(new PgStore({ pool: sessionPool, tableName: 'session', createTableIfMissing: false, pruneSessionInterval: 15 * 60, disableTouch: true })),
+      store: readCache.wrapStore(new PgStore({ pool: sessionPool, tableName: 'session', createTableIfMissing: false, pruneSessionInterval: 15 * 60, disableTouch: true })),
       secret: config.sessionSecret,
       resave: false,
       saveUninitialized: false,
@@ -99,7 +100,7 @@ export function createApp(ctx: AppContext): CreatedApp {
   passport.serializeUser((user, done) => done(null, user.id));
   passport.deserializeUser(async (id: string, done) => {
     try {
-      done(null, (await authCache.user(id, () => loadSessionUser(ctx.knex, id))) ?? false);
+      done(null, (await readCache.user(id, () => loadSessionUser(ctx.knex, id))) ?? false);
     } catch (error) {
       done(error);
     }
@@ -155,7 +156,7 @@ export function createApp(ctx: AppContext): CreatedApp {
 
   app.use(errorHandler);
   return { app, routes, close: async () => {
-    await authCache.close();
+    await readCache.close();
     await sessionPool.end();
   } };
 }

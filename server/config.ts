@@ -15,8 +15,8 @@ export interface AppConfig {
   loginRateLimit: { windowMs: number; max: number };
   /** Public certificate checks (number lookups and PDF checks) per caller address. */
   verifyRateLimit: { windowMs: number; max: number };
-  /** How long a process may reuse a session or user it read (0 turns the cache off); see server/services/auth-cache.ts. */
-  authCacheSeconds: number;
+  /** How long a process may reuse a session or user it read (0 turns the cache off); see server/services/read-cache.ts. */
+  readCacheSeconds: number;
   serveClient: boolean;
   logLevel: string;
 }
@@ -56,7 +56,7 @@ export function loadConfig(env: NodeJS.ProcessEnv = process.env): AppConfig {
     },
     loginRateLimit: { windowMs: int(env.LOGIN_RATE_WINDOW_MS, 15 * 60_000), max: int(env.LOGIN_RATE_MAX, 10) },
     verifyRateLimit: { windowMs: int(env.VERIFY_RATE_WINDOW_MS, 60_000), max: int(env.VERIFY_RATE_MAX, 60) },
-    authCacheSeconds: Math.max(0, int(env.AUTH_CACHE_SECONDS, 60)),
+    readCacheSeconds: Math.max(0, int(env.READ_CACHE_SECONDS, 60)),
     serveClient: env.SERVE_CLIENT === 'true' || mode === 'production',
     logLevel: env.LOG_LEVEL ?? (mode === 'test' ? 'silent' : 'info'),
   };

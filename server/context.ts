@@ -3,6 +3,7 @@ import type { Logger } from 'pino';
 import type { Passport } from 'passport';
 import type { AppConfig } from './config';
 import type { Mailer } from './mail/mailer';
+import type { ReadCache } from './services/read-cache';
 
 /** What every route module and service is given: no globals beyond this. */
 export interface AppContext {
@@ -12,4 +13,6 @@ export interface AppContext {
   logger: Logger;
   /** Set by the app factory; the sign-in route authenticates through it. */
   passport?: InstanceType<typeof Passport>;
+  /** Set by the app factory: sessions, users and certificate lookups read a moment ago (server/services/read-cache.ts). */
+  readCache?: ReadCache;
 }

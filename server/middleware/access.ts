@@ -13,7 +13,7 @@ export type Access = 'public' | 'signed-in' | readonly Role[];
 /**
  * For routes that start paid work (a drill or an exam attempt): a member of a customer company needs a
  * seat. Work already started can still be finished and read; lessons and calculators stay open.
- * The seat comes with the cached user (server/services/auth-cache.ts), so this costs no query.
+ * The seat comes with the cached user (server/services/read-cache.ts), so this costs no query.
  */
 export const requireSeat: RequestHandler = (req, _res, next) => {
   const m = req.membership;

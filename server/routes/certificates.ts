@@ -35,7 +35,7 @@ export function certificateRoutes(ctx: AppContext): RouteDef[] {
       summary: 'Check a certificate number: status, holder, area and dates (no e-mail, no company)',
       handler: async (req, res) => {
         noStore(res);
-        return verifyNumber(ctx.knex, req.valid.params.number, caller(req));
+        return verifyNumber(ctx.knex, req.valid.params.number, caller(req), ctx.readCache);
       },
     },
     {

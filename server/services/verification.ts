@@ -4,6 +4,7 @@ import { parse } from 'csv-parse/sync';
 import { stringify } from 'csv-stringify/sync';
 import { HttpError, notFound } from '../middleware/errors';
 import { parseCertificateNumber } from './certificate-number';
+import type { ReadCache } from './read-cache';
 import { effectiveStatus, todayUtc, type CertificateRow } from './certificates';
 import {
   BATCH_MAX_ROWS, type BatchAnswer, type BatchRow, type BatchSummary, type CertificateStatus, type LookupEntry, type VerificationAnswer,
@@ -62,18 +63,49 @@ async function writeLog(db: Knex | Knex.Transaction, entries: LogEntry[]) {
   for (let i = 0; i < entries.length; i += 1_000) await db('verification_log').insert(entries.slice(i, i + 1_000));
 }
 
+/**
+ * Single lookups, logged by group commit: each request waits until its own entry is written (nothing
+ * is answered unlogged, and a crash loses nothing answered), while the entries of requests that
+ * arrive during one insert share the next. At low traffic this is one insert per lookup, as before.
+ */
+const logQueues = new WeakMap<Knex, { waiting: { entry: LogEntry; done: (error?: unknown) => void }[]; writing: boolean }>();
+
+function logLookup(knex: Knex, entry: LogEntry): Promise<void> {
+  let queue = logQueues.get(knex);
+  if (!queue) logQueues.set(knex, (queue = { waiting: [], writing: false }));
+  const q = queue;
+  return new Promise<void>((resolve, reject) => {
+    q.waiting.push({ entry, done: (error) => (error ? reject(error) : resolve()) });
+    if (q.writing) return;
+    q.writing = true;
+    void (async () => {
+      while (q.waiting.length) {
+        const group = q.waiting.splice(0, 1_000);
+        try {
+          await knex('verification_log').insert(group.map((w) => w.entry));
+          for (const w of group) w.done();
+        } catch (error) {
+          for (const w of group) w.done(error);
+        }
+      }
+      q.writing = false;
+    })();
+  });
+}
+
 /** One number, as typed. Malformed input is logged and then refused with the typo hint (400). */
-export async function verifyNumber(knex: Knex, input: string, caller: LookupCaller): Promise<VerificationAnswer> {
+export async function verifyNumber(knex: Knex, input: string, caller: LookupCaller, cache?: ReadCache): Promise<VerificationAnswer> {
   const parsed = parseCertificateNumber(input);
   if (!parsed.ok) {
-    await writeLog(knex, [{ kind: 'single', number_tried: clip(input), result: 'malformed', certificate_id: null, user_id: caller.userId ?? null, ip_hash: caller.ipHash ?? null }]);
+    await logLookup(knex, { kind: 'single', number_tried: clip(input), result: 'malformed', certificate_id: null, user_id: caller.userId ?? null, ip_hash: caller.ipHash ?? null });
     throw new HttpError(400, parsed.reason === 'check' ? 'number_check_failed' : 'invalid_number', `The certificate number ${parsed.message}.`, [
       { field: 'number', message: `number: ${parsed.message}` },
     ]);
   }
-  const row = await knex('certificates').where({ number: parsed.number }).first<VerifyColumns | undefined>(VERIFY_COLUMNS);
+  const load = () => knex('certificates').where({ number: parsed.number }).first<VerifyColumns | undefined>(VERIFY_COLUMNS);
+  const row = cache ? await cache.certificate(parsed.number, load) : await load();
   const answer = answerFor(parsed.number, row, todayUtc());
-  await writeLog(knex, [{ kind: 'single', number_tried: clip(input), result: answer.status, certificate_id: row?.id ?? null, user_id: caller.userId ?? null, ip_hash: caller.ipHash ?? null }]);
+  await logLookup(knex, { kind: 'single', number_tried: clip(input), result: answer.status, certificate_id: row?.id ?? null, user_id: caller.userId ?? null, ip_hash: caller.ipHash ?? null });
   return answer;
 }
 

@@ -4,6 +4,7 @@ import type { AppContext } from '../context';
 import { HttpError } from '../middleware/errors';
 import { paymentReceiptMail } from '../mail/templates';
 import { applySubscription } from './billing';
+import { deliverQueuedEmails, queueEmails, type QueuedMail } from './email-log';
 import { lockSeats } from './seats';
 import { stripeFor, viaStripe } from './stripe';
 
@@ -12,6 +13,10 @@ import { stripeFor, viaStripe } from './stripe';
  * no-op insert) and processed at most once: processing locks the stored event row, skips it when
  * `processed_at` is set, and commits its effects together with `processed_at`. A failure rolls the
  * effects back, keeps the error, and answers 500 so Stripe delivers again.
+ *
+ * Payment receipts go through the e-mail outbox: one row per admin, queued in the transaction that
+ * records the paid invoice (so once per invoice, however often or wherever its event is delivered),
+ * sent right after commit, and retried by the delivery job while the mail server is down.
  *
  * Ordering: subscription events do not trust their payload. Under the company's seat lock the
  * subscription is re-fetched from Stripe and that current state is written, so whatever order
@@ -141,8 +146,11 @@ async function recordPaidInvoice(ctx: AppContext, trx: Knex.Transaction, company
     .onConflict('id')
     .ignore()
     .returning('id');
-  // A zero-amount invoice (a seat change covered by credit) needs no receipt.
-  if (inserted.length && invoice.amount_paid > 0) afterCommit.push(() => sendReceipt(ctx, invoice.id!));
+  // A zero-amount invoice (a seat change covered by credit) needs no receipt. A repeat of the invoice
+  // (the row already stood) queues nothing, so each admin gets one receipt per invoice.
+  if (!inserted.length || invoice.amount_paid <= 0) return;
+  const queued = await queueEmails(trx, await receiptMails(ctx, trx, companyId, invoice.id!));
+  if (queued.length) afterCommit.push(() => deliverQueuedEmails(ctx.knex, ctx.mailer, ctx.logger, { ids: queued }).then(() => undefined));
 }
 
 function formatMoney(amountMinor: number, currency: string) {
@@ -151,16 +159,16 @@ function formatMoney(amountMinor: number, currency: string) {
   return format.format(amountMinor / 10 ** digits);
 }
 
-/** The payment receipt, to every admin of the company; sent after the event commits, marked when sent. */
-export async function sendReceipt(ctx: AppContext, invoiceId: string) {
-  const invoice = await ctx.knex('stripe_invoices as i').join('companies as c', 'c.id', 'i.company_id').where('i.id', invoiceId).first('i.*', 'c.name as company_name');
-  if (!invoice || invoice.receipt_sent_at) return;
-  const admins: { email: string }[] = await ctx.knex('memberships as m')
+/** The payment receipt for a recorded invoice, one message for each active admin of the company. */
+async function receiptMails(ctx: AppContext, trx: Knex.Transaction, companyId: string, invoiceId: string): Promise<QueuedMail[]> {
+  const invoice = await trx('stripe_invoices as i').join('companies as c', 'c.id', 'i.company_id').where('i.id', invoiceId).first('i.*', 'c.name as company_name');
+  const admins: string[] = await trx('memberships as m')
     .join('users as u', 'u.id', 'm.user_id')
-    .where('m.company_id', invoice.company_id)
+    .where('m.company_id', companyId)
     .whereRaw("'admin' = any(m.roles)")
     .whereNull('u.disabled_at')
-    .select('u.email');
+    .orderBy('u.email')
+    .pluck('u.email');
   const mail = paymentReceiptMail({
     companyName: invoice.company_name,
     amount: formatMoney(invoice.amount_paid, invoice.currency),
@@ -170,6 +178,5 @@ export async function sendReceipt(ctx: AppContext, invoiceId: string) {
     url: invoice.hosted_invoice_url,
     billingUrl: `${ctx.config.appUrl}/company/billing`,
   });
-  for (const admin of admins) await ctx.mailer.send({ to: admin.email, ...mail });
-  await ctx.knex('stripe_invoices').where({ id: invoiceId }).update({ receipt_sent_at: ctx.knex.fn.now() });
+  return admins.map((to) => ({ to, kind: 'receipt', companyId, ...mail }));
 }

@@ -30,7 +30,7 @@ describe('sign-in', () => {
 
     const me = await agent.get('/api/auth/me').expect(200);
     expect(me.body.user).toEqual({ id: user.id, email: user.email, name: 'Odile Marchetti' });
-    expect(me.body.memberships).toEqual([{ companyId, companyName: 'Fernhollow Stack Testing', companyKind: 'customer', roles: ['crew', 'manager'] }]);
+    expect(me.body.memberships).toEqual([{ companyId, companyName: 'Fernhollow Stack Testing', companyKind: 'customer', roles: ['crew', 'manager'], seat: false }]);
     expect(JSON.stringify(me.body)).not.toMatch(/password|argon2/i);
 
     expect((await agent.post('/api/auth/logout')).status).toBe(204);

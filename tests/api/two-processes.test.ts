@@ -80,7 +80,7 @@ describe('two app processes on one database', () => {
 
 describe('the cache of sessions and users each process keeps', () => {
   const listeners = async () =>
-    Number((await t.knex.raw("select count(*)::int as n from pg_stat_activity where application_name = 'plumewright-auth-cache' and datname = current_database()")).rows[0].n);
+    Number((await t.knex.raw("select count(*)::int as n from pg_stat_activity where application_name = 'plumewright-read-cache' and datname = current_database()")).rows[0].n);
 
   async function signedInOnBoth(roles: ('crew' | 'manager')[]) {
     const company = await createCompany(t.knex, 'Guillemot Emission Services');
@@ -116,7 +116,7 @@ describe('the cache of sessions and users each process keeps', () => {
   it('reads the database again while it cannot listen, so no change is missed', async () => {
     await expect.poll(listeners, { timeout: 5_000 }).toBe(2);
     const { user, browser } = await signedInOnBoth(['crew']);
-    await t.knex.raw("select pg_terminate_backend(pid) from pg_stat_activity where application_name = 'plumewright-auth-cache' and datname = current_database()");
+    await t.knex.raw("select pg_terminate_backend(pid) from pg_stat_activity where application_name = 'plumewright-read-cache' and datname = current_database()");
     await expect.poll(listeners, { timeout: 2_000, interval: 5 }).toBe(0);
     await new Promise((r) => setTimeout(r, 30)); // the processes read the closed connection; they retry after 250 ms
     // Changed while nobody listens: no notice reaches either process, yet both answer from the database.
@@ -124,5 +124,27 @@ describe('the cache of sessions and users each process keeps', () => {
     for (const base of urls) expect((await (await browser.request(`${base}/api/auth/me`)).json()).user.name).toBe('Renamed While Deaf');
     // And both listen again afterwards.
     await expect.poll(listeners, { timeout: 10_000 }).toBe(2);
+  });
+});
+
+describe('public certificate checks through the cache', () => {
+  it('shows a revocation on both processes at once, after both have answered "valid"', async () => {
+    const { issueCertificateForPass } = await import('../../server/services/certificates');
+    const { syncContent } = await import('../../server/services/content-sync');
+    await syncContent(t.knex);
+    const company = await createCompany(t.knex, 'Puffin Ridge Sampling');
+    const holder = await createUser(t.knex, { companyId: company.id, roles: ['crew'], name: 'Wenna Trethowan' });
+    const [pass] = await t.knex('exam_passes').insert({ user_id: holder.id, company_id: company.id, area_id: 'particulate', score_pct: 90, duration_seconds: 2_400, passed_at: new Date() }).returning('id');
+    const number = (await issueCertificateForPass({ knex: t.knex, config: t.ctx.config }, pass.id)).certificate!.number;
+    const status = (base: string) => fetch(`${base}/api/verify/${number}`).then((r) => r.json()).then((b) => b.status as string);
+    for (const base of urls) {
+      expect(await status(base)).toBe('valid');
+      expect(await status(base)).toBe('valid');
+    }
+    await t.knex('certificates').where({ number }).update({ status: 'revoked', revoked_at: t.knex.fn.now(), revoked_reason: 'Exam evidence withdrawn by the issuer' });
+    for (const base of urls) await expect.poll(() => status(base), { timeout: 2_000, interval: 20 }).toBe('revoked');
+    // Every lookup was logged, the ones answered from the cache included.
+    const logged = await t.knex('verification_log').where({ number_tried: number }).count<{ count: string }[]>('* as count');
+    expect(Number(logged[0].count)).toBeGreaterThanOrEqual(6);
   });
 });

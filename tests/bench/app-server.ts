@@ -1,4 +1,7 @@
 // The product's own server for the benchmark, in its own process like production.
 import { startServer } from '../../server/index';
 
-startServer().then(() => process.send?.('ready'));
+startServer().then(({ shutdown }) => {
+  process.once('SIGTERM', () => void shutdown().finally(() => process.exit(0)));
+  process.send?.('ready');
+});

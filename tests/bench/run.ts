@@ -32,7 +32,9 @@ const atMost = (name: string, value: number, unit: string, max: number, note?: s
 
 function startChild(script: string, env: NodeJS.ProcessEnv): Promise<ChildProcess> {
   return new Promise((resolve, reject) => {
-    const child = fork(path.join(import.meta.dirname, script), [], { env: { ...process.env, ...env }, execArgv: ['--import', 'tsx'], stdio: ['ignore', 'ignore', 'inherit', 'ipc'] });
+    // BENCH_PROFILE=1 writes a CPU profile of the app's process to .artifacts-profile/ when it stops.
+    const profile = process.env.BENCH_PROFILE && script === 'app-server.ts' ? ['--cpu-prof', `--cpu-prof-dir=${path.join(ROOT, '.artifacts-profile')}`] : [];
+    const child = fork(path.join(import.meta.dirname, script), [], { env: { ...process.env, ...env }, execArgv: ['--import', 'tsx', ...profile], stdio: ['ignore', 'ignore', 'inherit', 'ipc'] });
     child.once('message', () => resolve(child));
     child.once('exit', (code) => reject(new Error(`${script} exited with ${code}`)));
   });
@@ -245,7 +247,13 @@ async function main() {
     atMost('entry-js-gzip-kb', +entryJsGzipKb().toFixed(1), 'KB', 150);
     await knex.destroy();
   } finally {
-    for (const child of children) child.kill('SIGTERM');
+    // Let each child stop on its own (a CPU profile is written on exit), SIGKILL after 10 s.
+    await Promise.all(children.map((child) => new Promise<void>((resolve) => {
+      if (child.exitCode !== null) return resolve();
+      const force = setTimeout(() => child.kill('SIGKILL'), 10_000);
+      child.once('exit', () => { clearTimeout(force); resolve(); });
+      child.kill('SIGTERM');
+    })));
     await dropDatabase(cluster.adminUrl(), dbName).catch(() => undefined);
     cluster.stop();
   }

@@ -3,11 +3,12 @@ import pg from 'pg';
 import type { Logger } from 'pino';
 
 /**
- * A short-lived, in-process cache of session rows and signed-in users, so a signed-in request does
- * not cost two PostgreSQL round trips before it starts its own work.
+ * A short-lived, in-process cache of session rows, signed-in users and public certificate lookups, so
+ * a signed-in request does not cost two PostgreSQL round trips before it starts its own work, and a
+ * public verification reads no row it read a moment ago.
  *
  * Correctness rests on PostgreSQL, not on timing: triggers (migration 20261202000060) announce every
- * change to a session, user, membership, company or subscription on the `plumewright_auth` channel,
+ * change to a session, user, membership, company, subscription or certificate on the `plumewright_cache` channel,
  * and every app process listens. A notice drops the matching entries at once; a process signs out
  * everywhere within the time a notice takes to cross the loopback or the data centre (milliseconds).
  *
@@ -17,16 +18,17 @@ import type { Logger } from 'pino';
  * started before a notice arrived is not stored (the epoch check), and entries live at most
  * `ttlMs` whatever happens.
  */
-export const AUTH_CHANNEL = 'plumewright_auth';
+export const READ_CACHE_CHANNEL = 'plumewright_cache';
 
 interface Entry<T> {
   value: T;
   until: number;
 }
 
-export class AuthCache {
+export class ReadCache {
   private sessions = new Map<string, Entry<session.SessionData | null>>();
   private users = new Map<string, Entry<Express.User | null>>();
+  private certificates = new Map<string, Entry<unknown>>();
   private epoch = 0;
   private listening = false;
   private client: pg.Client | null = null;
@@ -50,12 +52,12 @@ export class AuthCache {
 
   private async connect(): Promise<void> {
     if (this.closed) return;
-    const client = new pg.Client({ connectionString: this.opts.databaseUrl, application_name: 'plumewright-auth-cache', connectionTimeoutMillis: 5_000 });
+    const client = new pg.Client({ connectionString: this.opts.databaseUrl, application_name: 'plumewright-read-cache', connectionTimeoutMillis: 5_000 });
     const deaf = (err?: Error) => {
       if (this.client !== client) return;
       this.client = null;
       this.goDeaf();
-      if (err) this.opts.logger.warn({ err }, 'auth cache stopped listening; reading sessions from the database');
+      if (err) this.opts.logger.warn({ err }, 'read cache stopped listening; reading sessions from the database');
       client.end().catch(() => {});
       this.scheduleReconnect();
     };
@@ -65,7 +67,7 @@ export class AuthCache {
     this.client = client;
     try {
       await client.connect();
-      await client.query(`LISTEN ${AUTH_CHANNEL}`);
+      await client.query(`LISTEN ${READ_CACHE_CHANNEL}`);
       if (this.client !== client || this.closed) return;
       this.listening = true;
       this.retryMs = 250;
@@ -93,6 +95,7 @@ export class AuthCache {
     this.epoch++;
     this.sessions.clear();
     this.users.clear();
+    this.certificates.clear();
   }
 
   /** Applies a change notice (also used for changes made by this process, before the database's notice comes back). */
@@ -100,6 +103,7 @@ export class AuthCache {
     this.epoch++;
     if (payload.startsWith('s:')) this.sessions.delete(payload.slice(2));
     else if (payload.startsWith('u:')) this.users.delete(payload.slice(2));
+    else if (payload.startsWith('c:')) this.certificates.delete(payload.slice(2));
     else this.clear();
   }
 
@@ -124,6 +128,16 @@ export class AuthCache {
     const epoch = this.epoch;
     const value = await load();
     this.write(this.users, id, value ?? null, epoch);
+    return value;
+  }
+
+  /** A certificate's row by its canonical number (null when there is none), through the cache. */
+  async certificate<T>(number: string, load: () => Promise<T | undefined>): Promise<T | undefined> {
+    const hit = this.read(this.certificates, number);
+    if (hit) return (hit.value ?? undefined) as T | undefined;
+    const epoch = this.epoch;
+    const value = await load();
+    this.write(this.certificates, number, value ?? null, epoch);
     return value;
   }
 
