@@ -125,7 +125,19 @@ export function createApp(ctx: AppContext): CreatedApp {
   app.use('/api', doubleCsrfProtection);
 
   const routes = routeTable(ctx);
-  const router = Router();
+  // One router per first path segment (`/api/calculations`, `/api/verify`, …), so a request is matched
+  // against its own few routes instead of walking the whole table.
+  const groups = new Map<string, Router>();
+  const routerFor = (path: string) => {
+    const prefix = /^\/api\/[^/:]+/.exec(path)?.[0] ?? '';
+    let group = groups.get(prefix);
+    if (!group) {
+      group = Router();
+      groups.set(prefix, group);
+      if (prefix) app.use(prefix, group);
+    }
+    return { router: group, path: path.slice(prefix.length) || '/' };
+  };
   for (const route of routes) {
     const chain: RequestHandler[] = [requireAccess(route.access), ...(route.before ?? [])];
     if (route.body || route.query || route.params) chain.push(validate(route));
@@ -134,9 +146,11 @@ export function createApp(ctx: AppContext): CreatedApp {
       const result = await route.handler(req, res);
       if (result !== undefined && !res.headersSent) res.json(result);
     });
-    router[route.method](route.path, ...chain);
+    const { router, path: rest } = routerFor(route.path);
+    router[route.method](rest, ...chain);
   }
-  app.use(router);
+  const ungrouped = groups.get('');
+  if (ungrouped) app.use(ungrouped);
   app.use('/api', apiNotFound);
 
   if (config.serveClient) {

@@ -1,4 +1,16 @@
+import fs from 'node:fs';
 import autocannon from 'autocannon';
+
+/** CPU seconds a process has used (user + system), from /proc; undefined where there is no /proc. */
+function cpuSeconds(pid: number | undefined): number | undefined {
+  if (!pid) return undefined;
+  try {
+    const fields = fs.readFileSync(`/proc/${pid}/stat`, 'utf8').split(') ')[1].split(' ');
+    return (Number(fields[11]) + Number(fields[12])) / 100;
+  } catch {
+    return undefined;
+  }
+}
 
 export interface HttpFigures {
   requestsPerSecond: number;
@@ -7,6 +19,8 @@ export interface HttpFigures {
   errors: number;
   /** Answers received over the run. */
   requests: number;
+  /** The server's CPU time per answer (when its pid was given): what the route costs, whatever else the machine is doing. */
+  cpuMsPerRequest?: number;
 }
 
 export async function measureHttp(opts: {
@@ -17,7 +31,9 @@ export async function measureHttp(opts: {
   requests?: autocannon.Request[];
   connections?: number;
   durationSeconds: number;
+  serverPid?: number;
 }): Promise<HttpFigures> {
+  const cpuBefore = cpuSeconds(opts.serverPid);
   const result = await autocannon({
     url: opts.url,
     method: opts.method ?? 'GET',
@@ -33,6 +49,7 @@ export async function measureHttp(opts: {
     non2xx: result.non2xx,
     errors: result.errors + result.timeouts,
     requests: result.requests.total,
+    cpuMsPerRequest: cpuBefore === undefined ? undefined : +((((cpuSeconds(opts.serverPid) ?? cpuBefore) - cpuBefore) * 1000) / Math.max(1, result.requests.total)).toFixed(3),
   };
 }
 

@@ -24,6 +24,9 @@ import { READINESS_MANAGER, READINESS_MEMBERS, seedReadinessCompany, timeReadine
 
 const ROOT = path.resolve(import.meta.dirname, '../..');
 const DURATION = Number(process.env.BENCH_SECONDS ?? 8);
+/** BENCH_ONLY=calc,verify runs only those groups (engine, calc, drill, verify, pdf, readiness, bundle) while working on one. */
+const ONLY = process.env.BENCH_ONLY?.split(',').map((s) => s.trim());
+const wanted = (group: string) => !ONLY || ONLY.includes(group);
 
 interface Row { name: string; value: number; unit: string; target: string; pass: boolean; note?: string }
 const rows: Row[] = [];
@@ -146,105 +149,124 @@ async function main() {
     const [company] = await knex('companies').insert({ name: 'Bench Stack Testing' }).returning('id');
     const [user] = await knex('users').insert({ email: 'bench@bench.plumewright.example', name: 'Bench Crew', password_hash: await hashPassword('bench-password-1') }).returning('id');
     await knex('memberships').insert({ user_id: user.id, company_id: company.id, roles: ['crew'] });
-    console.log(`[bench] seeding a company of ${READINESS_MEMBERS} crew members for the readiness matrix…`);
-    const readinessSeed = await seedReadinessCompany(knex);
+    if (wanted('readiness')) console.log(`[bench] seeding a company of ${READINESS_MEMBERS} crew members for the readiness matrix…`);
+    const readinessSeed = wanted('readiness') ? await seedReadinessCompany(knex) : { certificates: 0 };
 
-    console.log('[bench] engine micro-benchmark…');
-    atLeast('engine-calls-per-s', Math.round(engineCallsPerSecond()), 'calls/s', 50_000);
+    if (wanted('engine')) {
+      console.log('[bench] engine micro-benchmark…');
+      atLeast('engine-calls-per-s', Math.round(engineCallsPerSecond()), 'calls/s', 50_000);
+    }
 
     const [nodePort, expressPort, appPort] = [await freePort(), await freePort(), await freePort()];
-    children.push(await startChild('bare-node.ts', { PORT: String(nodePort) }));
-    children.push(await startChild('bare-express.ts', { PORT: String(expressPort) }));
-    children.push(await startChild('app-server.ts', {
+    const nodeChild = await startChild('bare-node.ts', { PORT: String(nodePort) });
+    const expressChild = await startChild('bare-express.ts', { PORT: String(expressPort) });
+    children.push(nodeChild, expressChild);
+    const appChild = await startChild('app-server.ts', {
       NODE_ENV: 'production', DATABASE_URL: databaseUrl, PORT: String(appPort), LOG_LEVEL: 'warn', SERVE_CLIENT: 'false',
       SESSION_SECRET: 'bench-session-secret', LOGIN_RATE_MAX: '100000', VERIFY_RATE_MAX: '100000000', MIGRATE_ON_START: 'false', SMTP_PORT: '9', JOBS: 'off',
-    }));
+    });
+    children.push(appChild);
+    const cpuNote = (f: { cpuMsPerRequest?: number }) => (f.cpuMsPerRequest === undefined ? '' : `, ${f.cpuMsPerRequest} ms CPU/request`);
     const appUrl = `http://127.0.0.1:${appPort}`;
 
     console.log(`[bench] HTTP rows, ${DURATION} s each at 50 connections…`);
-    const bareNode = await measureHttp({ url: `http://127.0.0.1:${nodePort}/`, durationSeconds: DURATION });
-    const bareExpress = await measureHttp({ url: `http://127.0.0.1:${expressPort}/`, durationSeconds: DURATION });
-    rows.push({ name: 'bare-node-http-rps', value: Math.round(bareNode.requestsPerSecond), unit: 'req/s', target: 'reference', pass: true });
-    rows.push({ name: 'bare-express-rps', value: Math.round(bareExpress.requestsPerSecond), unit: 'req/s', target: 'reference', pass: true, note: `${(bareExpress.requestsPerSecond / bareNode.requestsPerSecond).toFixed(2)} of node:http` });
+    const bareNode = await measureHttp({ url: `http://127.0.0.1:${nodePort}/`, durationSeconds: DURATION, serverPid: nodeChild.pid });
+    const bareExpress = await measureHttp({ url: `http://127.0.0.1:${expressPort}/`, durationSeconds: DURATION, serverPid: expressChild.pid });
+    rows.push({ name: 'bare-node-http-rps', value: Math.round(bareNode.requestsPerSecond), unit: 'req/s', target: 'reference', pass: true, note: cpuNote(bareNode).slice(2) });
+    rows.push({ name: 'bare-express-rps', value: Math.round(bareExpress.requestsPerSecond), unit: 'req/s', target: 'reference', pass: true, note: `${(bareExpress.requestsPerSecond / bareNode.requestsPerSecond).toFixed(2)} of node:http${cpuNote(bareExpress)}` });
 
     const session = await signIn(appUrl, 'bench@bench.plumewright.example', 'bench-password-1');
-    const calc = await measureHttp({
-      url: `${appUrl}/api/calculations/stack-flow`, method: 'POST', durationSeconds: DURATION,
-      headers: { 'content-type': 'application/json', cookie: session.cookie, 'x-csrf-token': session.csrf },
-      body: JSON.stringify({ inputs: stackFlowInputs }),
-    });
-    if (calc.non2xx || calc.errors) throw new Error(`calculation route answered ${calc.non2xx} non-2xx and ${calc.errors} errors`);
-    atLeast('calc-route-ratio', +(calc.requestsPerSecond / bareExpress.requestsPerSecond).toFixed(3), 'x bare Express', 0.5, `${Math.round(calc.requestsPerSecond)} req/s`);
-    atMost('calc-route-p99-ms', calc.p99Ms, 'ms', 50);
-
-    // Drill submission: grade + store. Enough attempts for the run at the calculation route's pace
-    // (a submission does more work than a calculation); one that fails or runs short fails the row.
-    const poolSize = Math.min(80_000, Math.ceil(calc.requestsPerSecond * DURATION * 1.3) + 1_000);
-    console.log(`[bench] drill submission: seeding ${poolSize} attempts with their right answers…`);
-    const pool = await seedDrillAttempts(knex, user.id, company.id, poolSize);
-    let next = 0;
-    const started = performance.now();
-    const drill = await measureHttp({
-      url: appUrl, method: 'POST', durationSeconds: DURATION,
-      headers: { 'content-type': 'application/json', cookie: session.cookie, 'x-csrf-token': session.csrf },
-      requests: [{
-        method: 'POST',
-        setupRequest: (req) => {
-          // Past the end of the pool the request names no attempt, answers 404, and fails the row.
-          const attempt = pool[next++] ?? { id: '00000000-0000-4000-8000-000000000000', body: '{"answers":{}}' };
-          return { ...req, path: `/api/drill-attempts/${attempt.id}/submission`, body: attempt.body };
-        },
-      }],
-    });
-    const elapsedSeconds = (performance.now() - started) / 1000;
-    // The bench member has no other practice attempts: what is stored came from this run, and every
-    // stored one must have been graded right (the answers are the exact ones).
-    const [{ stored, perfect }] = await knex('drill_attempts').where({ user_id: user.id, mode: 'practice' }).whereNotNull('submitted_at')
-      .select<{ stored: number; perfect: number }[]>(knex.raw('count(*)::int as stored'), knex.raw('(count(*) filter (where score = 100))::int as perfect'));
-    const drillOk = drill.non2xx === 0 && drill.errors === 0 && perfect === stored && next <= pool.length;
-    // Only stored submissions count: the lower of autocannon's rate and the stored rows over the run's wall time.
-    const drillRps = Math.min(drill.requestsPerSecond, stored / elapsedSeconds);
-    const drillNote = `${Math.round(drillRps)} graded and stored/s, ${stored} of ${pool.length} seeded` + (drillOk ? '' : `; ${drill.non2xx} non-2xx, ${drill.errors} errors, ${stored - perfect} below 100`);
-    rows.push({ name: 'drill-submit-ratio', value: +(drillRps / bareExpress.requestsPerSecond).toFixed(3), unit: 'x bare Express', target: '>= 0.1', pass: drillOk && drillRps / bareExpress.requestsPerSecond >= 0.1, note: drillNote });
-    atMost('drill-submit-p99-ms', drill.p99Ms, 'ms', 100);
-
-    // Public verification of one issued certificate: lookup, status and the lookup log, no session.
-    const [pass] = await knex('exam_passes').insert({ user_id: user.id, company_id: company.id, area_id: 'particulate', score_pct: 88, duration_seconds: 2_700, passed_at: new Date() }).returning('id');
-    const issued = await issueCertificateForPass({ knex, config: { appUrl } }, pass.id);
-    const number = issued.certificate?.number;
-    if (!number) throw new Error('bench certificate was not issued');
-    const logBefore = Number((await knex('verification_log').count<{ count: string }[]>('* as count'))[0].count);
-    const verify = await measureHttp({ url: `${appUrl}/api/verify/${encodeURIComponent(number.toLowerCase().replaceAll('-', ' '))}`, durationSeconds: DURATION });
-    if (verify.non2xx || verify.errors) throw new Error(`verification route answered ${verify.non2xx} non-2xx and ${verify.errors} errors`);
-    // Every lookup is logged: wait for the log to hold them all (it is written in batches).
-    const deadline = Date.now() + 10_000;
-    let logged = 0;
-    while (Date.now() < deadline) {
-      logged = Number((await knex('verification_log').count<{ count: string }[]>('* as count'))[0].count) - logBefore;
-      if (logged >= verify.requests) break;
-      await new Promise((r) => setTimeout(r, 200));
+    let calcRps = 2_000;
+    if (wanted('calc')) {
+      const calc = await measureHttp({
+        url: `${appUrl}/api/calculations/stack-flow`, method: 'POST', durationSeconds: DURATION,
+        headers: { 'content-type': 'application/json', cookie: session.cookie, 'x-csrf-token': session.csrf },
+        body: JSON.stringify({ inputs: stackFlowInputs }), serverPid: appChild.pid,
+      });
+      if (calc.non2xx || calc.errors) throw new Error(`calculation route answered ${calc.non2xx} non-2xx and ${calc.errors} errors`);
+      atLeast('calc-route-ratio', +(calc.requestsPerSecond / bareExpress.requestsPerSecond).toFixed(3), 'x bare Express', 0.5, `${Math.round(calc.requestsPerSecond)} req/s${cpuNote(calc)}`);
+      atMost('calc-route-p99-ms', calc.p99Ms, 'ms', 50);
+      calcRps = calc.requestsPerSecond;
     }
-    const verifyRatio = +(verify.requestsPerSecond / bareExpress.requestsPerSecond).toFixed(3);
-    rows.push({ name: 'verify-route-ratio', value: verifyRatio, unit: 'x bare Express', target: '>= 0.6', pass: verifyRatio >= 0.6 && logged >= verify.requests, note: `${Math.round(verify.requestsPerSecond)} req/s, ${logged} of ${verify.requests} lookups logged` });
-    atMost('verify-route-p99-ms', verify.p99Ms, 'ms', 50);
 
-    console.log('[bench] certificate PDFs…');
-    const single = await pdfTimings(60);
-    atMost('pdf-median-ms', +single.medianMs.toFixed(1), 'ms', 80, 'median of 60 renders, embedded font and QR code');
-    const batch = await pdfTimings(1000);
-    atMost('pdf-batch-1000-s', +batch.totalSeconds.toFixed(1), 's', 60, '1,000 distinct certificates rendered and hashed in one process');
+    if (wanted('drill')) {
+      // Drill submission: grade + store. Enough attempts for the run at the calculation route's pace
+      // (a submission does more work than a calculation); one that fails or runs short fails the row.
+      const poolSize = Math.min(80_000, Math.ceil(calcRps * DURATION * 1.3) + 1_000);
+      console.log(`[bench] drill submission: seeding ${poolSize} attempts with their right answers…`);
+      const pool = await seedDrillAttempts(knex, user.id, company.id, poolSize);
+      let next = 0;
+      const started = performance.now();
+      const drill = await measureHttp({
+        url: appUrl, method: 'POST', durationSeconds: DURATION, serverPid: appChild.pid,
+        headers: { 'content-type': 'application/json', cookie: session.cookie, 'x-csrf-token': session.csrf },
+        requests: [{
+          method: 'POST',
+          setupRequest: (req) => {
+            // Past the end of the pool the request names no attempt, answers 404, and fails the row.
+            const attempt = pool[next++] ?? { id: '00000000-0000-4000-8000-000000000000', body: '{"answers":{}}' };
+            return { ...req, path: `/api/drill-attempts/${attempt.id}/submission`, body: attempt.body };
+          },
+        }],
+      });
+      const elapsedSeconds = (performance.now() - started) / 1000;
+      // The bench member has no other practice attempts: what is stored came from this run, and every
+      // stored one must have been graded right (the answers are the exact ones).
+      const [{ stored, perfect }] = await knex('drill_attempts').where({ user_id: user.id, mode: 'practice' }).whereNotNull('submitted_at')
+        .select<{ stored: number; perfect: number }[]>(knex.raw('count(*)::int as stored'), knex.raw('(count(*) filter (where score = 100))::int as perfect'));
+      const drillOk = drill.non2xx === 0 && drill.errors === 0 && perfect === stored && next <= pool.length;
+      // Only stored submissions count: the lower of autocannon's rate and the stored rows over the run's wall time.
+      const drillRps = Math.min(drill.requestsPerSecond, stored / elapsedSeconds);
+      const drillNote = `${Math.round(drillRps)} graded and stored/s, ${stored} of ${pool.length} seeded${cpuNote(drill)}` + (drillOk ? '' : `; ${drill.non2xx} non-2xx, ${drill.errors} errors, ${stored - perfect} below 100`);
+      rows.push({ name: 'drill-submit-ratio', value: +(drillRps / bareExpress.requestsPerSecond).toFixed(3), unit: 'x bare Express', target: '>= 0.1', pass: drillOk && drillRps / bareExpress.requestsPerSecond >= 0.1, note: drillNote });
+      atMost('drill-submit-p99-ms', drill.p99Ms, 'ms', 100);
+    }
 
-    console.log('[bench] readiness matrix, 50 sequential requests per variant…');
-    const manager = await signIn(appUrl, READINESS_MANAGER.email, READINESS_MANAGER.password);
-    const plain = await timeReadiness(`${appUrl}/api/readiness?page=1&pageSize=50`, manager.cookie);
-    if (plain.total !== READINESS_MEMBERS) throw new Error(`readiness listed ${plain.total} members, expected ${READINESS_MEMBERS}`);
-    atMost('readiness-5000-median-ms', plain.medianMs, 'ms', 150, `${READINESS_MEMBERS} members × 6 areas, ${readinessSeed.certificates} certificates`);
-    const sorted = await timeReadiness(`${appUrl}/api/readiness?page=3&pageSize=50&sort=particulate&order=asc`, manager.cookie);
-    atMost('readiness-5000-sorted-ms', sorted.medianMs, 'ms', 150, 'sorted by particulate expiry, page 3');
-    const filtered = await timeReadiness(`${appUrl}/api/readiness?page=1&pageSize=50&status=expiring&crew=Crew%203`, manager.cookie);
-    atMost('readiness-5000-filter-ms', filtered.medianMs, 'ms', 150, `status=expiring, one crew: ${filtered.total} rows`);
+    if (wanted('verify')) {
+      // Public verification of one issued certificate: lookup, status and the lookup log, no session.
+      const [pass] = await knex('exam_passes').insert({ user_id: user.id, company_id: company.id, area_id: 'particulate', score_pct: 88, duration_seconds: 2_700, passed_at: new Date() }).returning('id');
+      const issued = await issueCertificateForPass({ knex, config: { appUrl } }, pass.id);
+      const number = issued.certificate?.number;
+      if (!number) throw new Error('bench certificate was not issued');
+      const logBefore = Number((await knex('verification_log').count<{ count: string }[]>('* as count'))[0].count);
+      const verify = await measureHttp({ url: `${appUrl}/api/verify/${encodeURIComponent(number.toLowerCase().replaceAll('-', ' '))}`, durationSeconds: DURATION, serverPid: appChild.pid });
+      if (verify.non2xx || verify.errors) throw new Error(`verification route answered ${verify.non2xx} non-2xx and ${verify.errors} errors`);
+      // Every lookup is logged: wait for the log to hold them all (it is written in batches).
+      const deadline = Date.now() + 10_000;
+      let logged = 0;
+      while (Date.now() < deadline) {
+        logged = Number((await knex('verification_log').count<{ count: string }[]>('* as count'))[0].count) - logBefore;
+        if (logged >= verify.requests) break;
+        await new Promise((r) => setTimeout(r, 200));
+      }
+      const verifyRatio = +(verify.requestsPerSecond / bareExpress.requestsPerSecond).toFixed(3);
+      rows.push({ name: 'verify-route-ratio', value: verifyRatio, unit: 'x bare Express', target: '>= 0.6', pass: verifyRatio >= 0.6 && logged >= verify.requests, note: `${Math.round(verify.requestsPerSecond)} req/s, ${logged} of ${verify.requests} lookups logged${cpuNote(verify)}` });
+      atMost('verify-route-p99-ms', verify.p99Ms, 'ms', 50);
+    }
 
-    atMost('entry-js-gzip-kb', +entryJsGzipKb().toFixed(1), 'KB', 150);
+    if (wanted('pdf')) {
+      console.log('[bench] certificate PDFs…');
+      const single = await pdfTimings(60);
+      atMost('pdf-median-ms', +single.medianMs.toFixed(1), 'ms', 80, 'median of 60 renders, embedded font and QR code');
+      const batch = await pdfTimings(1000);
+      atMost('pdf-batch-1000-s', +batch.totalSeconds.toFixed(1), 's', 60, '1,000 distinct certificates rendered and hashed in one process');
+    }
+
+    if (wanted('readiness')) {
+      console.log('[bench] readiness matrix, 50 sequential requests per variant…');
+      const manager = await signIn(appUrl, READINESS_MANAGER.email, READINESS_MANAGER.password);
+      const plain = await timeReadiness(`${appUrl}/api/readiness?page=1&pageSize=50`, manager.cookie);
+      if (plain.total !== READINESS_MEMBERS) throw new Error(`readiness listed ${plain.total} members, expected ${READINESS_MEMBERS}`);
+      atMost('readiness-5000-median-ms', plain.medianMs, 'ms', 150, `${READINESS_MEMBERS} members × 6 areas, ${readinessSeed.certificates} certificates`);
+      const sorted = await timeReadiness(`${appUrl}/api/readiness?page=3&pageSize=50&sort=particulate&order=asc`, manager.cookie);
+      atMost('readiness-5000-sorted-ms', sorted.medianMs, 'ms', 150, 'sorted by particulate expiry, page 3');
+      const filtered = await timeReadiness(`${appUrl}/api/readiness?page=1&pageSize=50&status=expiring&crew=Crew%203`, manager.cookie);
+      atMost('readiness-5000-filter-ms', filtered.medianMs, 'ms', 150, `status=expiring, one crew: ${filtered.total} rows`);
+    }
+
+    if (wanted('bundle')) {
+      atMost('entry-js-gzip-kb', +entryJsGzipKb().toFixed(1), 'KB', 150);
+    }
     await knex.destroy();
   } finally {
     // Let each child stop on its own (a CPU profile is written on exit), SIGKILL after 10 s.
