@@ -6,6 +6,7 @@ import { certificateIssuedMail } from '../mail/templates';
 import { HttpError, badRequest, conflict, notFound } from '../middleware/errors';
 import { renderCertificatePdf, sha256Hex } from '../pdf/certificate';
 import { recordAudit } from './audit';
+import { deliverQueuedEmails, queueEmails } from './email-log';
 import { generateCertificateNumber, parseCertificateNumber } from './certificate-number';
 import { getCompanyLogo } from './logos';
 import type { CertificateStatus, MyCertificate, OperatorCertificate } from '../../shared/certificates';
@@ -23,7 +24,10 @@ export type { CertificateStatus };
 /** How far before expiry a new pass renews (replaces) a certificate that is still valid. */
 export const RENEWAL_WINDOW_DAYS = 90;
 
-/** What issuing needs: the app context satisfies it; the demo seed passes a smaller one. */
+/**
+ * What issuing needs: the app context satisfies it; the demo seed passes a smaller one. Without a
+ * mailer no e-mail is queued (the seed's made-up history tells nobody).
+ */
 export interface IssueContext {
   knex: Knex;
   config: Pick<AppConfig, 'appUrl'>;
@@ -208,7 +212,7 @@ interface PassRow {
  * the pass is consumed and linked to the standing certificate.
  */
 export async function issueCertificateForPass(ctx: IssueContext, passId: string): Promise<IssueOutcome> {
-  let mail: { to: string; name: string; summary: CertificateSummary; renewal: boolean } | null = null;
+  let queued: number[] = [];
   const result = await ctx.knex.transaction(async (trx): Promise<IssueOutcome> => {
     const pass = await trx('exam_passes').where({ id: passId }).forUpdate().first<PassRow | undefined>();
     if (!pass) throw notFound('Exam pass');
@@ -284,30 +288,45 @@ export async function issueCertificateForPass(ctx: IssueContext, passId: string)
       targetType: 'certificate', targetId: row.id, details: { number, areaId: pass.area_id, passId: pass.id, supersedes },
     });
     const summary = summarise(row);
-    mail = { to: user.email, name: user.name, summary, renewal: standing.length > 0 };
+    queued = await queueIssuedMail(ctx, trx, { to: user.email, name: user.name, companyId: pass.company_id, summary, kind: standing.length ? 'renewal' : 'first' });
     return { outcome: standing.length ? 'renewed' : 'issued', certificate: summary, ...(supersedes.length ? { supersedes } : {}) };
   });
-  if (mail) await sendIssuedMail(ctx, mail);
+  await deliverIssuedMail(ctx, queued);
   return result;
 }
 
-async function sendIssuedMail(ctx: IssueContext, mail: { to: string; name: string; summary: CertificateSummary; renewal: boolean; correction?: boolean }) {
-  if (!ctx.mailer) return;
+/**
+ * The "certificate issued" message goes through the e-mail outbox: queued in the transaction that
+ * writes the certificate (so exactly once per certificate, since the pass or the old certificate is
+ * locked and consumed there), sent right after commit, retried by the delivery job if that fails.
+ */
+async function queueIssuedMail(
+  ctx: IssueContext,
+  trx: Knex.Transaction,
+  mail: { to: string; name: string; companyId: string | null; summary: CertificateSummary; kind: 'first' | 'renewal' | 'correction' },
+): Promise<number[]> {
+  if (!ctx.mailer) return [];
+  const message = certificateIssuedMail({
+    name: mail.name,
+    number: mail.summary.number,
+    area: mail.summary.area,
+    issuedOn: mail.summary.issuedOn,
+    expiresOn: mail.summary.expiresOn,
+    verifyUrl: verifyUrlFor(ctx.config.appUrl, mail.summary.number),
+    certificatesUrl: `${ctx.config.appUrl}/certificates`,
+    kind: mail.kind,
+  });
+  return queueEmails(trx, [{ to: mail.to, kind: 'certificate', companyId: mail.companyId, ...message }]);
+}
+
+async function deliverIssuedMail(ctx: IssueContext, ids: number[]) {
+  if (!ids.length || !ctx.mailer) return;
+  const logger = ctx.logger ?? { warn: () => undefined };
   try {
-    const message = certificateIssuedMail({
-      name: mail.name,
-      number: mail.summary.number,
-      area: mail.summary.area,
-      issuedOn: mail.summary.issuedOn,
-      expiresOn: mail.summary.expiresOn,
-      verifyUrl: verifyUrlFor(ctx.config.appUrl, mail.summary.number),
-      certificatesUrl: `${ctx.config.appUrl}/certificates`,
-      kind: mail.correction ? 'correction' : mail.renewal ? 'renewal' : 'first',
-    });
-    await ctx.mailer.send({ to: mail.to, ...message });
+    await deliverQueuedEmails(ctx.knex, ctx.mailer, logger, { ids });
   } catch (err) {
-    // The certificate stands whether or not the message went out; the member sees it in the app.
-    ctx.logger?.warn({ err, number: mail.summary.number }, 'certificate e-mail not sent');
+    // The certificate stands and its message waits in the outbox for the delivery job.
+    logger.warn({ err, emailIds: ids }, 'certificate e-mail left for the delivery job');
   }
 }
 
@@ -436,7 +455,7 @@ export async function reissueCertificate(
   opts: { holderName: string; updateAccountName: boolean },
   actor: Actor,
 ): Promise<{ certificate: OperatorCertificate; replaces: string }> {
-  let mail: { to: string; name: string; summary: CertificateSummary } | null = null;
+  let queued: number[] = [];
   const result = await ctx.knex.transaction(async (trx) => {
     const old = await trx('certificates').where({ number }).forUpdate().first<CertificateRow | undefined>(certificateColumns());
     if (!old) throw notFound('Certificate');
@@ -490,10 +509,10 @@ export async function reissueCertificate(
     });
     if (old.user_id) {
       const user = await trx('users').where({ id: old.user_id }).first<{ email: string } | undefined>('email');
-      if (user) mail = { to: user.email, name: opts.holderName, summary: summarise(row) };
+      if (user) queued = await queueIssuedMail(ctx, trx, { to: user.email, name: opts.holderName, companyId: old.company_id, summary: summarise(row), kind: 'correction' });
     }
     return { certificate: operatorView(row, todayUtc()), replaces: number };
   });
-  if (mail) await sendIssuedMail(ctx, { ...(mail as { to: string; name: string; summary: CertificateSummary }), renewal: false, correction: true });
+  await deliverIssuedMail(ctx, queued);
   return result;
 }

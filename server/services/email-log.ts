@@ -6,15 +6,16 @@ import type { Mailer, OutgoingMail } from '../mail/mailer';
 /*
  * Every e-mail the platform sends is a row in email_log, for operators.
  *
- * - Direct mail (invitations, receipts, certificate notices…): callers use ctx.mailer.send as always;
- *   the wrapper from withEmailLog writes the row and marks it sent or failed. The caller handles
- *   its own failures; direct rows are never retried from here.
- * - Outbox mail (expiry reminders, digests, password reset links): written as `queued` in the same
- *   transaction that decided to send it, then delivered after commit by deliverQueuedEmails (at once
- *   for a single message a person is waiting for, by its ids; otherwise by the sweep). A row is claimed
- *   (`sending`) with FOR UPDATE SKIP LOCKED, so two processes never pick the same row. An SMTP
- *   failure marks it `failed` and it is retried with a growing delay, up to MAX_ATTEMPTS. A row left
- *   in `sending` by a crash is not retried (it may have gone out): it becomes `failed` with a note.
+ * - Direct mail (invitations): callers use ctx.mailer.send as always; the wrapper from withEmailLog
+ *   writes the row and marks it sent or failed. The caller handles its own failures; direct rows are
+ *   never retried from here.
+ * - Outbox mail (expiry reminders, digests, password reset links, payment receipts, certificate
+ *   notices): written as `queued` in the same transaction that decided to send it, then delivered
+ *   after commit by deliverQueuedEmails (at once, by its ids, when a person or an event is waiting on
+ *   it; otherwise by the sweep). A row is claimed (`sending`) with FOR UPDATE SKIP LOCKED, so two
+ *   processes never pick the same row. An SMTP failure marks it `failed` and it is retried with a
+ *   growing delay, up to MAX_ATTEMPTS. A row left in `sending` by a crash is not retried (it may have
+ *   gone out): it becomes `failed` with a note.
  */
 export const MAX_ATTEMPTS = 3;
 const STUCK_AFTER_MINUTES = 15;
@@ -105,7 +106,7 @@ export async function withdrawUnsentEmails(trx: Knex.Transaction, match: { to: s
 }
 
 /** Sends what is due in the outbox, at most `limit` rows per call; only the rows `ids` when given. */
-export async function deliverQueuedEmails(knex: Knex, mailer: Mailer, logger: Logger, opts: { limit?: number; ids?: number[] } = {}) {
+export async function deliverQueuedEmails(knex: Knex, mailer: Mailer, logger: Pick<Logger, 'warn'>, opts: { limit?: number; ids?: number[] } = {}) {
   const transport = rawMailer(mailer);
   await knex('email_log')
     .where({ source: 'outbox', status: 'sending' })

@@ -120,14 +120,27 @@ describe('sign-up and checkout', () => {
     expect((await other.agent.get(`/api/billing/checkout/${sessionId}`)).status).toBe(404);
   });
 
-  it('sends the payment receipt to the admin once the invoice is paid', async () => {
-    const company = await paidCompany(3, 'year');
+  it('sends the payment receipt to every admin once the invoice is paid, through the outbox', async () => {
+    const company = await signUp(3, 'year');
+    // A second admin, and one whose account is disabled (who gets nothing).
+    const coAdmin = await createUser(knex(), { companyId: company.companyId, roles: ['admin'] });
+    const disabled = await createUser(knex(), { companyId: company.companyId, roles: ['admin'] });
+    await knex()('users').where({ id: disabled.id }).update({ disabled_at: knex().fn.now() });
+    await payCheckout(company.checkoutUrl);
+    await stack.drain();
     const { waitForMail } = await import('../helpers/mail');
-    const mail = await waitForMail(company.adminEmail, { subject: /Payment received/ });
-    expect(mail.subject).toContain('$540.00');
-    expect(mail.text).toMatch(/paid up to/);
-    const row = await knex()('stripe_invoices').where({ company_id: company.companyId }).first();
-    expect(row.receipt_sent_at).not.toBeNull();
+    for (const to of [company.adminEmail, coAdmin.email]) {
+      const mail = await waitForMail(to, { subject: /Payment received/ });
+      expect(mail.subject).toContain('$540.00');
+      expect(mail.text).toMatch(/paid up to/);
+    }
+    const invoice = await knex()('stripe_invoices').where({ company_id: company.companyId }).first();
+    const receipts = await knex()('email_log').where({ kind: 'receipt', company_id: company.companyId }).orderBy('to_address');
+    expect(receipts.map((r) => r.to_address)).toEqual([company.adminEmail, coAdmin.email].sort());
+    for (const r of receipts) {
+      expect(r).toMatchObject({ source: 'outbox', status: 'sent', attempts: 1, last_error: null });
+      expect(r.subject).toContain(invoice.number);
+    }
   });
 
   it('leaves nothing half-made when the payment service is down during sign-up', async () => {
@@ -247,6 +260,8 @@ describe('webhooks', () => {
     await new Promise((r) => setTimeout(r, 500));
     const inbox = (await (await fetch(`${process.env.MAIL_API_URL}/email?to.address=${encodeURIComponent(company.adminEmail)}`)).json()) as { subject: string }[];
     expect(inbox.filter((m) => m.subject.includes(number))).toHaveLength(1);
+    const queued = await knex()('email_log').where({ kind: 'receipt', company_id: company.companyId }).whereLike('subject', `%${number}%`);
+    expect(queued).toMatchObject([{ source: 'outbox', to_address: company.adminEmail, status: 'sent' }]);
   });
 
   it('ends in the right state whatever order the events arrive in', async () => {

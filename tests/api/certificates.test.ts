@@ -132,6 +132,9 @@ describe('issuing from an exam pass', () => {
     expect(mail.text).toContain(number);
     expect(mail.text).toContain(`${t.ctx.config.appUrl}/verify/${number}`);
     expect(mail.text).toMatch(/does not replace the method text/);
+    // Through the outbox, queued with the certificate and sent after commit.
+    const logged = await t.knex('email_log').where({ kind: 'certificate', to_address: people.crew2.email }).whereLike('body_text', `%${number}%`);
+    expect(logged).toMatchObject([{ source: 'outbox', company_id: companyA, status: 'sent', attempts: 1 }]);
   });
 
   it('is idempotent: a second call, and concurrent calls, answer with the same certificate', async () => {
@@ -146,6 +149,11 @@ describe('issuing from an exam pass', () => {
     expect(new Set(outcomes.map((o) => o.certificate!.number)).size).toBe(1);
     expect(outcomes.filter((o) => o.outcome === 'issued')).toHaveLength(1);
     expect(await t.knex('certificates').where({ exam_pass_id: racing }).count('* as n').first()).toEqual({ n: 1 });
+    // One message for the one certificate, however many calls raced.
+    for (const number of [first.certificate!.number, outcomes[0].certificate!.number]) {
+      const logged = await t.knex('email_log').where({ kind: 'certificate', to_address: people.crew.email }).whereLike('body_text', `%${number}%`);
+      expect(logged, number).toMatchObject([{ source: 'outbox', status: 'sent' }]);
+    }
   });
 
   it('renews within 90 days of expiry: the new certificate supersedes the old one, which reads superseded', async () => {

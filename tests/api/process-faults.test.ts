@@ -11,6 +11,7 @@ import { freePort } from '../../server/dev/exec';
 import { startMailCatcher } from '../../server/dev/services';
 import { createStripeFake, type StripeFake } from '../../server/fakes/stripe';
 import { QUEUES, startJobs } from '../../server/jobs';
+import { issueCertificate } from '../../server/services/exams';
 import { MAX_ATTEMPTS } from '../../server/services/email-log';
 import { syncContent } from '../../server/services/content-sync';
 import { createTestApp } from '../helpers/app';
@@ -327,13 +328,17 @@ describe('two app processes on one database', () => {
 });
 
 describe('the mail server down', () => {
-  it('keeps requests working, then sends what was waiting once the mail server is back, each message once', async () => {
+  it('keeps requests, payments and certificates working, then sends what was waiting once the mail server is back, each message once', async () => {
     const smtpPort = await freePort(); // nothing listens here yet
-    const t = await createTestApp({}, { SMTP_PORT: String(smtpPort) });
+    const t = await createTestApp({}, { SMTP_PORT: String(smtpPort), STRIPE_API_URL: fakeUrl, STRIPE_SECRET_KEY: 'sk_test_plumewright_mail_down', STRIPE_WEBHOOK_SECRET: WEBHOOK_SECRET });
+    const listening = t.app.listen(0, '127.0.0.1');
+    await new Promise<void>((resolve) => listening.once('listening', () => resolve()));
+    const base = `http://127.0.0.1:${(listening.address() as AddressInfo).port}`;
     const mailDir = fs.mkdtempSync(path.join(os.tmpdir(), 'pw-fault-mail-'));
     let catcher: Awaited<ReturnType<typeof startMailCatcher>> | undefined;
     let jobs: Awaited<ReturnType<typeof startJobs>> | undefined;
     try {
+      await syncContent(t.knex);
       const team = await createCompany(t.knex, 'Harrowgate Emission Monitoring');
       const admin = await createUser(t.knex, { companyId: team.id, roles: ['admin', 'manager'] });
       const member = await createUser(t.knex, { companyId: team.id, roles: ['crew'] });
@@ -356,9 +361,50 @@ describe('the mail server down', () => {
       expect(resetRow.last_error).toMatch(/ECONNREFUSED/);
       expect(await t.knex('email_log').where({ to_address: inviteeEmail })).toMatchObject([{ kind: 'invitation', status: 'failed' }]);
 
+      // A company with two admins pays; the payment service hands each event to the app twice at once.
+      const founder = new HttpClient(base);
+      const founderEmail = uniqueEmail('founder');
+      const signup = await founder.post('/api/signup', { companyName: 'Saltmarsh Stack Sampling', adminName: 'Perpetua Quillfeather', email: founderEmail, password: 'a-long-founder-password', seats: 2, interval: 'month' });
+      expect(signup.status, JSON.stringify(signup.body)).toBe(201);
+      const payingId = signup.body.me.activeCompanyId as string;
+      const coAdmin = await createUser(t.knex, { companyId: payingId, roles: ['admin'] });
+      gate.targets = [base];
+      gate.copies = 2;
+      gate.answers = [];
+      await payCheckout(signup.body.checkoutUrl);
+      expect(await fake.webhooks.whenIdle(30_000)).toBe(true);
+      // Every delivery was answered 200: the payment went through, whatever the mail server does.
+      expect(gate.answers.length).toBeGreaterThanOrEqual(4);
+      expect(gate.answers.every((a) => a.status === 200)).toBe(true);
+      expect(await t.knex('subscriptions').where({ company_id: payingId }).first()).toMatchObject({ status: 'active', quantity: 2 });
+      const invoice = await t.knex('stripe_invoices').where({ company_id: payingId }).first();
+      expect(invoice.amount_paid).toBeGreaterThan(0);
+      // One receipt per admin waits in the outbox, though its event came twice.
+      const receipts = await t.knex('email_log').where({ kind: 'receipt', company_id: payingId }).orderBy('to_address');
+      expect(receipts.map((r) => r.to_address)).toEqual([founderEmail, coAdmin.email].sort());
+      for (const r of receipts) {
+        expect(r).toMatchObject({ source: 'outbox', status: 'failed', attempts: 1, last_error: expect.stringMatching(/ECONNREFUSED/) });
+        expect(r.subject).toContain(invoice.number);
+      }
+
+      // A crew member's pass becomes a certificate; its e-mail waits in the outbox too.
+      const holder = await createUser(t.knex, { companyId: team.id, roles: ['crew'], name: 'Odalys Fenwick-Hale' });
+      const [passRow] = await t.knex('exam_passes')
+        .insert({ user_id: holder.id, company_id: team.id, area_id: 'gas-analysis', score_pct: 87.5, duration_seconds: 2460, passed_at: new Date() })
+        .returning('id');
+      const issued = await issueCertificate(t.ctx, passRow.id);
+      expect(issued).toMatchObject({ status: 'issued', outcome: 'issued' });
+      expect(await t.knex('certificates').where({ number: issued.number }).first()).toMatchObject({ status: 'valid', user_id: holder.id });
+      const [certificateMail] = await t.knex('email_log').where({ kind: 'certificate', to_address: holder.email });
+      expect(certificateMail).toMatchObject({ source: 'outbox', status: 'failed', attempts: 1, last_error: expect.stringMatching(/ECONNREFUSED/) });
+      expect(await t.knex('email_log').where({ kind: 'certificate', to_address: holder.email })).toHaveLength(1);
+
       catcher = await startMailCatcher({ smtpPort, webPort: await freePort(), mailDir, quiet: true });
-      // The retry falls due (five minutes later in real time); the delivery job runs, twice.
-      await t.knex('email_log').where({ to_address: member.email }).update({ next_attempt_at: t.knex.raw("now() - interval '1 second'") });
+      // The retries fall due (five minutes later in real time); the delivery job runs, twice.
+      await t.knex('email_log')
+        .where({ source: 'outbox', status: 'failed' })
+        .where('attempts', '<', MAX_ATTEMPTS)
+        .update({ next_attempt_at: t.knex.raw("now() - interval '1 second'") });
       jobs = await startJobs(t.ctx, { schedule: false, pollingIntervalSeconds: 0.5 });
       for (let run = 0; run < 2; run++) {
         const id = (await jobs.boss.send(QUEUES.deliver, {}))!;
@@ -370,6 +416,19 @@ describe('the mail server down', () => {
       expect(await inbox(member.email, undefined, catcher.apiUrl)).toHaveLength(1);
       expect(await t.knex('email_log').where({ id: resetRow.id }).first()).toMatchObject({ status: 'sent', attempts: 2, last_error: null });
       expect(await t.knex('email_log').where({ id: replaced.id }).first()).toMatchObject({ status: 'failed', sent_at: null });
+
+      // Each admin's receipt and the holder's certificate notice, once each.
+      for (const to of [founderEmail, coAdmin.email]) {
+        const receipt = await mailAt(catcher.apiUrl, to, new RegExp(`Payment received.*${invoice.number}`));
+        expect(receipt.text).toMatch(/paid up to/);
+      }
+      const notice = await mailAt(catcher.apiUrl, holder.email, /certificate/i);
+      expect(notice.text).toContain(issued.number);
+      await new Promise((r) => setTimeout(r, 300));
+      for (const to of [founderEmail, coAdmin.email, holder.email]) expect(await inbox(to, undefined, catcher.apiUrl), to).toHaveLength(1);
+      for (const row of [...receipts, certificateMail]) {
+        expect(await t.knex('email_log').where({ id: row.id }).first(), row.to_address).toMatchObject({ status: 'sent', attempts: 2, last_error: null });
+      }
       const token = linkIn(resetMail, /\/reset-password\/[A-Za-z0-9_-]+/).split('/').pop()!;
       expect((await new TestAgent(t.app).post('/api/auth/password-reset/confirm', { token, password: 'a-fresh-password-after-outage' })).status).toBe(204);
 
@@ -384,9 +443,13 @@ describe('the mail server down', () => {
       await new Promise((r) => setTimeout(r, 300));
       expect(await inbox(inviteeEmail, undefined, catcher.apiUrl)).toHaveLength(1);
     } finally {
+      gate.targets = [app.url];
+      gate.copies = 1;
       await jobs?.stop();
       await catcher?.stop();
       fs.rmSync(mailDir, { recursive: true, force: true });
+      listening.closeAllConnections();
+      await new Promise((r) => listening.close(r));
       await t.close();
     }
   }, 90_000);
