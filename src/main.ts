@@ -1,3 +1,4 @@
+import './validation-config';
 import { createApp } from 'vue';
 import { createPinia } from 'pinia';
 import PrimeVue from 'primevue/config';

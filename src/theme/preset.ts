@@ -160,6 +160,42 @@ export const PlumewrightPreset = definePreset(Aura, {
     },
   },
   components: {
+    // Segmented choices (SelectButton, ToggleButton). Aura's picked option is a white chip on a grey
+    // track (1.2:1) with faint unpicked labels (4.2:1); ours fills the picked chip with the primary
+    // (5.0:1 against the track) and keeps every label at AA: white on plume.600 5.8, ash.600 on
+    // ash.100 6.2; dark: ash.950 on plume.300 9.3, ash.300 on ash.950 11.4.
+    togglebutton: {
+      colorScheme: {
+        light: {
+          root: {
+            background: '{ash.100}',
+            hoverBackground: '{ash.100}',
+            checkedBackground: '{ash.100}',
+            borderColor: '{ash.300}',
+            checkedBorderColor: '{ash.300}',
+            color: '{ash.600}',
+            hoverColor: '{ash.900}',
+            checkedColor: '#ffffff',
+          },
+          content: { checkedBackground: '{plume.600}' },
+          icon: { color: '{ash.600}', hoverColor: '{ash.900}', checkedColor: '#ffffff' },
+        },
+        dark: {
+          root: {
+            background: '{ash.950}',
+            hoverBackground: '{ash.950}',
+            checkedBackground: '{ash.950}',
+            borderColor: '{ash.700}',
+            checkedBorderColor: '{ash.700}',
+            color: '{ash.300}',
+            hoverColor: '{ash.50}',
+            checkedColor: '{ash.950}',
+          },
+          content: { checkedBackground: '{plume.300}' },
+          icon: { color: '{ash.300}', hoverColor: '{ash.50}', checkedColor: '{ash.950}' },
+        },
+      },
+    },
     message: {
       colorScheme: {
         light: {
