@@ -24,9 +24,18 @@ export interface LookupCaller {
 }
 
 /** A keyed hash of the caller's address: stable enough to spot abuse, useless for finding anyone. */
+const ipHashes = new Map<string, string>();
 export function hashIp(ip: string | undefined, secret: string): string | null {
   if (!ip) return null;
-  return crypto.createHmac('sha256', secret).update(ip).digest('hex').slice(0, 32);
+  const key = `${secret}\u0000${ip}`;
+  let hash = ipHashes.get(key);
+  if (!hash) {
+    // Remembered per process (a busy checker asks many times); the map is emptied when it grows large.
+    if (ipHashes.size >= 10_000) ipHashes.clear();
+    hash = crypto.createHmac('sha256', secret).update(ip).digest('hex').slice(0, 32);
+    ipHashes.set(key, hash);
+  }
+  return hash;
 }
 
 const clip = (text: string) => text.slice(0, 64);

@@ -32,6 +32,26 @@ describe('health and the error shape', () => {
     expect(res.headers['x-powered-by']).toBeUndefined();
   });
 
+  it("sends exactly the headers helmet itself would, on every answer (they are computed once and replayed)", async () => {
+    const { default: express } = await import('express');
+    const { default: helmet } = await import('helmet');
+    // The same options as server/app.ts, applied the ordinary way, for comparison.
+    const reference = express();
+    reference.disable('x-powered-by');
+    reference.use(helmet({ contentSecurityPolicy: { useDefaults: false, directives: {
+      defaultSrc: ["'self'"], scriptSrc: ["'self'"], styleSrc: ["'self'", "'unsafe-inline'"], imgSrc: ["'self'", 'data:', 'blob:'],
+      fontSrc: ["'self'", 'data:'], connectSrc: ["'self'"], objectSrc: ["'none'"], baseUri: ["'self'"], frameAncestors: ["'none'"], formAction: ["'self'"],
+    } } }));
+    reference.get('/api/health', (_req, res) => { res.json({}); });
+    const expected = (await request(reference).get('/api/health')).headers;
+    const helmetNames = Object.keys(expected).filter((name) => !['content-type', 'content-length', 'date', 'connection', 'etag', 'keep-alive'].includes(name));
+    expect(helmetNames.length).toBeGreaterThan(8);
+    for (const path of ['/api/health', '/api/no-such-thing', '/api/verify/PW-0000-0000-000']) {
+      const got = (await request(t.app).get(path)).headers;
+      for (const name of helmetNames) expect(got[name], `${path}: ${name}`).toBe(expected[name]);
+    }
+  });
+
   it('reports 503 from health when the database cannot be reached', async () => {
     const broken = createDb('postgres://nobody:x@127.0.0.1:1/none', { min: 0, max: 1 });
     const created = createApp({ ...t.ctx, knex: broken });
