@@ -14,6 +14,7 @@ import { readinessRoutes } from './readiness';
 import { assignmentRoutes } from './assignments';
 import { noticeRoutes } from './notices';
 import { certificateRoutes } from './certificates';
+import { operatorConsoleRoutes } from './operator-console';
 import type { RouteDef } from './types';
 
 /** The router table: every API route with its access rule. The role matrix test is generated from it. */
@@ -33,6 +34,7 @@ export function routeTable(ctx: AppContext): RouteDef[] {
     ...assignmentRoutes(ctx),
     ...noticeRoutes(ctx),
     ...certificateRoutes(ctx),
+    ...operatorConsoleRoutes(ctx),
     ...openApiRoutes(() => table),
   ];
   return table;

@@ -198,6 +198,13 @@ const routes: RouteRecordRaw[] = [
         meta: { title: 'Courses and exam blueprints' },
       },
       { path: 'emails', name: 'operate-emails', component: () => import('../views/operate-emails/EmailLogView.vue'), meta: { title: 'E-mail log' } },
+      {
+        path: 'companies',
+        name: 'operate-companies',
+        component: () => import('../views/operate-companies/OperateCompaniesView.vue'),
+        meta: { title: 'Companies and seats' },
+      },
+      { path: 'webhooks', name: 'operate-webhooks', component: () => import('../views/operate-webhooks/WebhookLogView.vue'), meta: { title: 'Payment webhooks' } },
     ],
   },
   {

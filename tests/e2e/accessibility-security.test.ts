@@ -309,6 +309,8 @@ checkPages('operator', () => people.operator, [
   { name: 'courses and exam blueprints', path: () => '/operate/content', ready: byTestId('blueprint-form-gas-analysis') },
   { name: 'certificates', path: () => '/operate/certificates', ready: (page) => page.getByTestId(`revoke-${certificateNumber}`) },
   { name: 'e-mail log', path: () => '/operate/emails', ready: byTestId('email-log-table') },
+  { name: 'companies and seats', path: () => '/operate/companies', ready: byTestId('companies-table') },
+  { name: 'payment webhooks', path: () => '/operate/webhooks', ready: byTestId('webhook-log-table') },
   { name: 'drill preview', path: () => '/operate/drills', ready: byTestId('area-operate-drills') },
 ]);
 
