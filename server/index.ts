@@ -10,6 +10,9 @@ import { withEmailLog } from './services/email-log';
 export async function startServer() {
   const config = loadConfig();
   const logger = pino({ level: config.logLevel });
+  if (config.env === 'production' && !config.secureCookies && config.appUrl.startsWith('https:')) {
+    logger.warn('APP_URL is https but SECURE_COOKIES is not "true": session cookies go out without the Secure flag. Set SECURE_COOKIES=true behind a TLS proxy that sends X-Forwarded-Proto.');
+  }
   const knex = createDb(config.databaseUrl, { min: 0, max: 20 });
   bindModels(knex);
   if (process.env.MIGRATE_ON_START !== 'false') await migrateLatest(knex);
