@@ -131,6 +131,19 @@ export class ReadCache {
     return value;
   }
 
+  /**
+   * A signed-in request's session and user when both were read a moment ago, else undefined (the
+   * caller then goes through express-session and passport as usual). Never loads anything.
+   */
+  signedIn(sid: string): { session: session.SessionData; user: Express.User } | undefined {
+    const sessionHit = this.read(this.sessions, sid)?.value;
+    const expires = sessionHit?.cookie?.expires ? new Date(sessionHit.cookie.expires).getTime() : Infinity;
+    const userId = (sessionHit as { passport?: { user?: unknown } } | null | undefined)?.passport?.user;
+    if (!sessionHit || expires <= Date.now() || typeof userId !== 'string') return undefined;
+    const user = this.read(this.users, userId)?.value;
+    return user ? { session: sessionHit, user } : undefined;
+  }
+
   /** A certificate's row by its canonical number (null when there is none), through the cache. */
   async certificate<T>(number: string, load: () => Promise<T | undefined>): Promise<T | undefined> {
     const hit = this.read(this.certificates, number);
