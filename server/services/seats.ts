@@ -269,7 +269,8 @@ async function namesOf(db: Db, userIds: string[]) {
 /**
  * Whether this user holds a usable seat in this company: an assigned seat, and the company's
  * subscription in good standing (a cancelled plan keeps working to the end of its paid period).
- * For routes that should be limited to seat holders (drills, exams); wire it where needed.
+ * The query form of the rule: requests read the same answer from the signed-in user
+ * (`MembershipView.seat`, computed in loadSessionUser with inGoodStanding) and `requireSeat` checks it.
  */
 export async function hasSeat(knex: Knex, userId: string, companyId: string): Promise<boolean> {
   const row = await knex('memberships as m')
