@@ -170,6 +170,8 @@ describe('journey: a crew member reduces a run through the chained calculators',
     // 1. Moisture. A bad value: the server's message beside the field, and nothing typed is lost.
     await page.getByTestId('calculator-card-moisture').getByRole('link').click();
     await page.getByTestId('calculate').waitFor(WAIT);
+    // The caution can paint a frame after the form's button; give it the same wait before checking.
+    await page.getByTestId('safety-caution').waitFor({ ...WAIT, state: 'visible' }).catch(() => undefined);
     expect(await page.getByTestId('safety-caution').isVisible()).toBe(true);
     await fillFields(page, 'moisture', moistureTyped);
     const refused = await calculate(page, 'moisture');
