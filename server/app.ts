@@ -14,6 +14,7 @@ import type { AppContext } from './context';
 import { apiNotFound, errorHandler } from './middleware/errors';
 import { requireAccess } from './middleware/access';
 import { validate } from './middleware/validate';
+import { BoundedMemo, deepFreeze, sendJson } from './middleware/fast-path';
 import { routeTable } from './routes';
 import type { RouteDef } from './routes/types';
 import { verifyPassword } from './services/passwords';
@@ -26,6 +27,9 @@ export interface CreatedApp {
   /** Closes what the app opened beside the context (the session pool). */
   close: () => Promise<void>;
 }
+
+/** The CSRF cookie; behind TLS it takes the `__Host-` prefix (Secure, Path=/, no Domain). */
+const CSRF_COOKIE = (secure: boolean) => (secure ? '__Host-pw.csrf' : 'pw.csrf');
 
 const CLIENT_DIR = path.resolve(import.meta.dirname, '../dist/client');
 
@@ -105,9 +109,9 @@ export function createApp(ctx: AppContext): CreatedApp {
   ctx.readCache = readCache;
 
   // Webhook signatures are computed over the exact bytes sent, so that one path keeps its raw body.
-  app.use('/api/webhooks/stripe', express.raw({ type: () => true, limit: '1mb' }));
-  app.use('/api', express.json({ limit: '100kb' }));
-  app.use(cookieParser());
+  const rawBody = express.raw({ type: () => true, limit: '1mb' });
+  const jsonBody = express.json({ limit: '100kb' });
+  const parseCookies = cookieParser();
   const sessionMiddleware = session({
     name: 'pw.sid',
     // No touch: a session lives 12 hours from sign-in (an absolute limit), and reads never write.
@@ -141,77 +145,116 @@ export function createApp(ctx: AppContext): CreatedApp {
       done(error);
     }
   });
+  const passportInitialize = passport.initialize();
+  const passportSession = passport.session();
+
   // A public lookup without cookies has no session to load and would save none: it skips the session
   // and sign-in machinery (a third of such a request's CPU). Everything else goes through it.
-  const sessionChain: RequestHandler[] = [sessionMiddleware, passport.initialize(), passport.session()];
   const sessionless = (req: express.Request) =>
     (req.method === 'GET' || req.method === 'HEAD') && !req.headers.cookie && (req.path.startsWith('/api/verify/') || req.path === '/api/health');
   // Read-only fast path: an API call that only reads its session (everything but sign-in, sign-out,
   // the CSRF token, switching company and sign-up), whose signed cookie verifies and whose session and
   // user the read cache holds, gets them from the cache and skips express-session and passport: about
-  // a third of such a call's CPU. The session is frozen there, so a write fails loudly instead of being
-  // lost. Anything else, and every cache miss, takes the full path.
+  // a third of such a call's CPU. The session is deep-frozen there, so a write fails loudly instead of
+  // being lost. Anything else, and every cache miss, takes the full path.
   const sessionWriters = /^\/api\/(auth\/|signup$)/;
-  app.use((req, res, next) => {
-    if (!req.path.startsWith('/api/') || sessionWriters.test(req.path)) return next();
+  // A cookie's signature is an HMAC of its exact text: a text that verified once verifies again, so
+  // verified texts are remembered (bounded) instead of hashed on every call. Failures are not kept.
+  const verifiedCookies = new BoundedMemo<string, string>(20_000);
+  // One frozen view per cached session value (a new value replaces it when the session changes).
+  const sessionViews = new WeakMap<object, session.SessionData>();
+  const cachedSession = (req: express.Request, res: express.Response) => {
+    if (!req.path.startsWith('/api/') || sessionWriters.test(req.path)) return;
     const raw = (req.cookies as Record<string, string> | undefined)?.['pw.sid'];
-    if (!raw?.startsWith('s:')) return next();
-    const sid = cookieParser.signedCookie(raw, config.sessionSecret);
-    const hit = sid ? readCache.signedIn(sid) : undefined;
-    if (!sid || !hit) return next();
+    if (!raw?.startsWith('s:')) return;
+    let sid = verifiedCookies.get(raw);
+    if (sid === undefined) {
+      const verified = cookieParser.signedCookie(raw, config.sessionSecret);
+      if (!verified) return;
+      sid = verified;
+      verifiedCookies.set(raw, sid);
+    }
+    const hit = readCache.signedIn(sid);
+    if (!hit) return;
+    let view = sessionViews.get(hit.session);
+    if (!view) {
+      view = deepFreeze({ ...structuredClone(hit.session), id: sid }) as session.SessionData;
+      sessionViews.set(hit.session, view);
+    }
     req.sessionID = sid;
-    req.session = Object.freeze({ ...structuredClone(hit.session), id: sid }) as unknown as typeof req.session;
+    req.session = view as typeof req.session;
     req.user = hit.user;
     res.locals.sessionFromCache = true;
-    next();
+  };
+  app.use((req, res, next) => {
+    parseCookies(req, res, (err?: unknown) => {
+      if (err) return next(err);
+      cachedSession(req, res);
+      if (sessionless(req) || res.locals.sessionFromCache) return next();
+      sessionMiddleware(req, res, (err1?: unknown) => {
+        if (err1) return next(err1);
+        passportInitialize(req, res, (err2?: unknown) => (err2 ? next(err2) : passportSession(req, res, next)));
+      });
+    });
   });
-  for (const middleware of sessionChain) {
-    app.use((req, res, next) => (sessionless(req) || res.locals.sessionFromCache ? next() : middleware(req, res, next)));
-  }
 
-  const { generateCsrfToken, doubleCsrfProtection } = doubleCsrf({
+  const { generateCsrfToken, validateRequest, invalidCsrfTokenError } = doubleCsrf({
     getSecret: () => config.sessionSecret,
     getSessionIdentifier: (req) => req.session.id,
-    cookieName: config.secureCookies ? '__Host-pw.csrf' : 'pw.csrf',
+    cookieName: CSRF_COOKIE(config.secureCookies),
     cookieOptions: { sameSite: 'lax', secure: config.secureCookies, httpOnly: true, path: '/' },
     getCsrfTokenFromRequest: (req) => req.headers['x-csrf-token'] as string | undefined,
-    // Webhooks carry their own signature; there is no browser session to protect.
-    // (Mounted under /api, req.path has lost that prefix; originalUrl has not.)
-    skipCsrfProtection: (req) => req.originalUrl.startsWith('/api/webhooks/'),
   });
-  app.use('/api', (_req, res, next) => {
-    res.locals.generateCsrfToken = generateCsrfToken;
-    next();
-  });
-  app.use('/api', doubleCsrfProtection);
+  // Double-submit check on every unsafe API call (csrf-csrf's own validator). Webhooks carry their own
+  // signature and have no browser session. A (session, cookie token, header token) triple that
+  // validated is remembered, bounded, since the HMAC over it cannot change.
+  const validCsrf = new BoundedMemo<string, true>(20_000);
+  const csrfCheck = (req: express.Request, isWebhook: boolean) => {
+    if (isWebhook || req.method === 'GET' || req.method === 'HEAD' || req.method === 'OPTIONS') return true;
+    const fromCookie = (req.cookies as Record<string, string> | undefined)?.[CSRF_COOKIE(config.secureCookies)];
+    const fromHeader = req.headers['x-csrf-token'];
+    if (typeof fromCookie !== 'string' || typeof fromHeader !== 'string') return false;
+    const key = `${req.session?.id}\n${fromCookie}\n${fromHeader}`;
+    if (validCsrf.get(key)) return true;
+    if (!validateRequest(req)) return false;
+    validCsrf.set(key, true);
+    return true;
+  };
 
   const routes = routeTable(ctx);
-  // One router per first path segment (`/api/calculations`, `/api/verify`, …), so a request is matched
-  // against its own few routes instead of walking the whole table.
+  // API routes are grouped by their first path segment (`calculations`, `verify`, …); one layer picks
+  // the group from a map, so a request is matched against its own few routes instead of walking the
+  // table (or a prefix layer per group).
   const groups = new Map<string, Router>();
-  const routerFor = (path: string) => {
-    const prefix = /^\/api\/[^/:]+/.exec(path)?.[0] ?? '';
-    let group = groups.get(prefix);
-    if (!group) {
-      group = Router();
-      groups.set(prefix, group);
-      if (prefix) app.use(prefix, group);
-    }
-    return { router: group, path: path.slice(prefix.length) || '/' };
-  };
+  const ungrouped = Router();
   for (const route of routes) {
     const chain: RequestHandler[] = [requireAccess(route.access), ...(route.before ?? [])];
     if (route.body || route.query || route.params) chain.push(validate(route));
     else chain.push((req, _res, next) => { req.valid = { body: req.body, query: req.query, params: req.params }; next(); });
     chain.push(async (req, res) => {
       const result = await route.handler(req, res);
-      if (result !== undefined && !res.headersSent) res.json(result);
+      if (result !== undefined && !res.headersSent) sendJson(req, res, result);
     });
-    const { router, path: rest } = routerFor(route.path);
+    const rest = route.path.replace(/^\/api/, '');
+    const segment = /^\/([^/:]+)/.exec(rest)?.[1];
+    let router = ungrouped;
+    if (segment) {
+      router = groups.get(segment) ?? Router();
+      groups.set(segment, router);
+    }
     router[route.method](rest, ...chain);
   }
-  const ungrouped = groups.get('');
-  if (ungrouped) app.use(ungrouped);
+  const afterBody = (req: express.Request, res: express.Response, next: express.NextFunction, isWebhook: boolean) => {
+    if (!csrfCheck(req, isWebhook)) return next(invalidCsrfTokenError);
+    res.locals.generateCsrfToken = generateCsrfToken;
+    const segment = /^\/([^/?]+)/.exec(req.url)?.[1];
+    const router = (segment && groups.get(segment)) || ungrouped;
+    router(req, res, router === ungrouped ? next : (err?: unknown) => (err ? next(err) : ungrouped(req, res, next)));
+  };
+  app.use('/api', (req, res, next) => {
+    const isStripe = req.path === '/webhooks/stripe' || req.path.startsWith('/webhooks/stripe/');
+    (isStripe ? rawBody : jsonBody)(req, res, (err?: unknown) => (err ? next(err) : afterBody(req, res, next, req.path.startsWith('/webhooks/'))));
+  });
   app.use('/api', apiNotFound);
 
   if (config.serveClient) {

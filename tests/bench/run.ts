@@ -36,8 +36,8 @@ const atMost = (name: string, value: number, unit: string, max: number, note?: s
 function startChild(script: string, env: NodeJS.ProcessEnv): Promise<ChildProcess> {
   return new Promise((resolve, reject) => {
     // BENCH_PROFILE=1 writes a CPU profile of the app's process to .artifacts-profile/ when it stops.
-    const profile = process.env.BENCH_PROFILE && script === 'app-server.ts' ? ['--cpu-prof', `--cpu-prof-dir=${path.join(ROOT, '.artifacts-profile')}`] : [];
-    const child = fork(path.join(import.meta.dirname, script), [], { env: { ...process.env, ...env }, execArgv: ['--import', 'tsx', ...profile], stdio: ['ignore', 'ignore', 'inherit', 'ipc'] });
+    const profile = process.env.BENCH_PROFILE && script === 'app-server.ts' ? (process.env.BENCH_PROFILE === 'heap' ? ['--heap-prof', `--heap-prof-dir=${path.join(ROOT, '.artifacts-profile')}`] : ['--cpu-prof', `--cpu-prof-dir=${path.join(ROOT, '.artifacts-profile')}`]) : [];
+    const child = fork(path.join(import.meta.dirname, script), [], { env: { ...process.env, ...env }, execArgv: ['--import', 'tsx', ...profile, ...(script === 'app-server.ts' && process.env.BENCH_APP_FLAGS ? process.env.BENCH_APP_FLAGS.split(' ') : [])], stdio: ['ignore', script === 'app-server.ts' && process.env.BENCH_APP_FLAGS ? 'inherit' : 'ignore', 'inherit', 'ipc'] });
     child.once('message', () => resolve(child));
     child.once('exit', (code) => reject(new Error(`${script} exited with ${code}`)));
   });
