@@ -58,6 +58,12 @@ export const errorHandler: ErrorRequestHandler = (err, req, res, _next) => {
   } else if (error?.type === 'entity.parse.failed') {
     status = 400;
     body = { code: 'malformed_json', message: 'The request body is not valid JSON.' };
+  } else if (error?.type === 'charset.unsupported' || error?.type === 'encoding.unsupported') {
+    status = 415;
+    body = { code: 'unsupported_body', message: 'Send the request body as uncompressed UTF-8 JSON.' };
+  } else if (error?.type === 'request.aborted') {
+    status = 400;
+    body = { code: 'aborted', message: 'The request body did not arrive in full; nothing was saved.' };
   } else if (error?.type === 'entity.too.large' || error?.code === 'LIMIT_FILE_SIZE') {
     status = 413;
     body = { code: 'too_large', message: 'The request body or upload is larger than this route accepts.' };

@@ -61,7 +61,7 @@ describe('sign-in', () => {
     expect(res.body.error.code).toBe('csrf_invalid');
   });
 
-  it('rejects malformed JSON with 400 and an over-size body with 413, in the error shape', async () => {
+  it('rejects malformed JSON with 400, an over-size body with 413 and a non-UTF-8 body with 415, in the error shape', async () => {
     const agent = new TestAgent(t.app);
     const token = await agent.csrfToken();
     const bad = await agent.agent.post('/api/auth/login').set('x-csrf-token', token).set('content-type', 'application/json').send('{"email":');
@@ -70,6 +70,9 @@ describe('sign-in', () => {
     const big = await agent.agent.post('/api/auth/login').set('x-csrf-token', token).send({ email: 'a@b.example', password: 'x'.repeat(200_000) });
     expect(big.status).toBe(413);
     expect(big.body.error.code).toBe('too_large');
+    const latin = await agent.agent.post('/api/auth/login').set('x-csrf-token', token).set('content-type', 'application/json; charset=latin1').send('{"email":"a@b.example"}');
+    expect(latin.status).toBe(415);
+    expect(latin.body.error.code).toBe('unsupported_body');
   });
 
   it('rate-limits repeated failures with 429', async () => {

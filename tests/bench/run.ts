@@ -7,7 +7,8 @@ import fs from 'node:fs';
 import path from 'node:path';
 import zlib from 'node:zlib';
 import { randomUUID } from 'node:crypto';
-import { fork, type ChildProcess } from 'node:child_process';
+import os from 'node:os';
+import { fork, spawnSync, type ChildProcess } from 'node:child_process';
 import { freePort } from '../../server/dev/exec';
 import { dropDatabase, ensureDatabase, startCluster } from '../../server/dev/postgres';
 import { buildClientIfNeeded } from '../../server/dev/client-build';
@@ -33,12 +34,26 @@ const rows: Row[] = [];
 const atLeast = (name: string, value: number, unit: string, min: number, note?: string) => rows.push({ name, value, unit, target: `>= ${min}`, pass: value >= min, note });
 const atMost = (name: string, value: number, unit: string, max: number, note?: string) => rows.push({ name, value, unit, target: `<= ${max}`, pass: value <= max, note });
 
+/**
+ * On a machine with two or more cores the servers under test share one core and the load generator
+ * (this process) another, so each HTTP row measures its server alone, in the same conditions, instead
+ * of wherever the scheduler put it that second. BENCH_PIN=off leaves placement to the scheduler.
+ */
+const CPUS = os.availableParallelism();
+const PIN = process.env.BENCH_PIN !== 'off' && CPUS >= 2 && spawnSync('taskset', ['-V']).status === 0;
+function pin(pid: number | undefined, cpus: string) {
+  if (PIN && pid) spawnSync('taskset', ['-p', '-c', cpus, String(pid)], { stdio: 'ignore' });
+}
+
 function startChild(script: string, env: NodeJS.ProcessEnv): Promise<ChildProcess> {
   return new Promise((resolve, reject) => {
     // BENCH_PROFILE=1 writes a CPU profile of the app's process to .artifacts-profile/ when it stops.
     const profile = process.env.BENCH_PROFILE && script === 'app-server.ts' ? (process.env.BENCH_PROFILE === 'heap' ? ['--heap-prof', `--heap-prof-dir=${path.join(ROOT, '.artifacts-profile')}`] : ['--cpu-prof', `--cpu-prof-dir=${path.join(ROOT, '.artifacts-profile')}`]) : [];
     const child = fork(path.join(import.meta.dirname, script), [], { env: { ...process.env, ...env }, execArgv: ['--import', 'tsx', ...profile, ...(script === 'app-server.ts' && process.env.BENCH_APP_FLAGS ? process.env.BENCH_APP_FLAGS.split(' ') : [])], stdio: ['ignore', script === 'app-server.ts' && process.env.BENCH_APP_FLAGS ? 'inherit' : 'ignore', 'inherit', 'ipc'] });
-    child.once('message', () => resolve(child));
+    child.once('message', () => {
+      pin(child.pid, String(CPUS - 1));
+      resolve(child);
+    });
     child.once('exit', (code) => reject(new Error(`${script} exited with ${code}`)));
   });
 }
@@ -169,7 +184,8 @@ async function main() {
     const cpuNote = (f: { cpuMsPerRequest?: number }) => (f.cpuMsPerRequest === undefined ? '' : `, ${f.cpuMsPerRequest} ms CPU/request`);
     const appUrl = `http://127.0.0.1:${appPort}`;
 
-    console.log(`[bench] HTTP rows, ${DURATION} s each at 50 connections…`);
+    console.log(`[bench] HTTP rows, ${DURATION} s each at 50 connections${PIN ? `; servers on CPU ${CPUS - 1}, load generator on CPU 0-${CPUS - 2}` : ''}…`);
+    pin(process.pid, CPUS > 2 ? `0-${CPUS - 2}` : '0');
     const bareNode = await measureHttp({ url: `http://127.0.0.1:${nodePort}/`, durationSeconds: DURATION, serverPid: nodeChild.pid });
     const bareExpress = await measureHttp({ url: `http://127.0.0.1:${expressPort}/`, durationSeconds: DURATION, serverPid: expressChild.pid });
     rows.push({ name: 'bare-node-http-rps', value: Math.round(bareNode.requestsPerSecond), unit: 'req/s', target: 'reference', pass: true, note: cpuNote(bareNode).slice(2) });
