@@ -28,9 +28,6 @@ export interface CreatedApp {
   close: () => Promise<void>;
 }
 
-/** The CSRF cookie; behind TLS it takes the `__Host-` prefix (Secure, Path=/, no Domain). */
-const CSRF_COOKIE = (secure: boolean) => (secure ? '__Host-pw.csrf' : 'pw.csrf');
-
 const CLIENT_DIR = path.resolve(import.meta.dirname, '../dist/client');
 
 /**
@@ -221,10 +218,12 @@ export function createApp(ctx: AppContext): CreatedApp {
     });
   });
 
+  // Behind TLS the CSRF cookie takes the `__Host-` prefix (Secure, Path=/, no Domain).
+  const csrfCookie = config.secureCookies ? '__Host-pw.csrf' : 'pw.csrf';
   const { generateCsrfToken, validateRequest, invalidCsrfTokenError } = doubleCsrf({
     getSecret: () => config.sessionSecret,
     getSessionIdentifier: (req) => req.session.id,
-    cookieName: CSRF_COOKIE(config.secureCookies),
+    cookieName: csrfCookie,
     cookieOptions: { sameSite: 'lax', secure: config.secureCookies, httpOnly: true, path: '/' },
     getCsrfTokenFromRequest: (req) => req.headers['x-csrf-token'] as string | undefined,
   });
@@ -234,7 +233,7 @@ export function createApp(ctx: AppContext): CreatedApp {
   const validCsrf = new BoundedMemo<string, true>(20_000);
   const csrfCheck = (req: express.Request, isWebhook: boolean) => {
     if (isWebhook || req.method === 'GET' || req.method === 'HEAD' || req.method === 'OPTIONS') return true;
-    const fromCookie = (req.cookies as Record<string, string> | undefined)?.[CSRF_COOKIE(config.secureCookies)];
+    const fromCookie = (req.cookies as Record<string, string> | undefined)?.[csrfCookie];
     const fromHeader = req.headers['x-csrf-token'];
     if (typeof fromCookie !== 'string' || typeof fromHeader !== 'string') return false;
     const key = `${req.session?.id}\n${fromCookie}\n${fromHeader}`;
