@@ -269,7 +269,8 @@ export function createApp(ctx: AppContext): CreatedApp {
   const afterBody = (req: express.Request, res: express.Response, next: express.NextFunction, isWebhook: boolean) => {
     if (!csrfCheck(req, isWebhook)) return next(invalidCsrfTokenError);
     res.locals.generateCsrfToken = generateCsrfToken;
-    const segment = /^\/([^/?]+)/.exec(req.url)?.[1];
+    // Express matches routes whatever the letter case; so does the group lookup.
+    const segment = /^\/([^/?]+)/.exec(req.url)?.[1]?.toLowerCase();
     const router = (segment && groups.get(segment)) || ungrouped;
     router(req, res, router === ungrouped ? next : (err?: unknown) => (err ? next(err) : ungrouped(req, res, next)));
   };

@@ -55,6 +55,10 @@ export const errorHandler: ErrorRequestHandler = (err, req, res, _next) => {
     const fields = (error.fields as FieldProblem[]).map((f) => ({ ...f, field: f.field.startsWith('answers') ? f.field : `answers.${f.field}` }));
     status = 400;
     body = { code: 'invalid_answer_format', message: error.message, fields };
+  } else if (error instanceof URIError && error.status === 400) {
+    // Express's router could not percent-decode a route parameter.
+    status = 400;
+    body = { code: 'bad_request', message: 'The address has a part that is not valid percent-encoding.', fields: [{ field: 'params', message: 'Malformed percent-encoding in the address.' }] };
   } else if (error?.type === 'entity.parse.failed') {
     status = 400;
     body = { code: 'malformed_json', message: 'The request body is not valid JSON.' };

@@ -22,6 +22,25 @@ describe('health and the error shape', () => {
     expect(res.body.error.message).toMatch(/no-such-thing/);
   });
 
+  it('matches API routes as Express does: trailing slash, any letter case, HEAD as GET, parameters decoded', async () => {
+    expect((await request(t.app).get('/api/health/')).body).toEqual({ status: 'ok', db: 'ok' });
+    expect((await request(t.app).get('/API/Health')).body).toEqual({ status: 'ok', db: 'ok' });
+    const head = await request(t.app).head('/api/health').expect(200);
+    expect(head.text ?? '').toBe('');
+    expect(head.headers['content-type']).toMatch(/application\/json/);
+    // The number reaches the route decoded: "not a number" is refused for what it says, not for "%20".
+    const spaced = await request(t.app).get('/api/verify/not%20a%20number').expect(400);
+    expect(spaced.body.error.fields[0].field).toBe('number');
+    expect((await request(t.app).get('/api/no-such-thing/')).status).toBe(404);
+  });
+
+  it('answers a broken percent-escape in the address with a 400 that says so', async () => {
+    const res = await request(t.app).get('/api/verify/PW%E0%A4%A').expect(400);
+    expect(res.body.error.code).toBe('bad_request');
+    expect(res.body.error.message).toMatch(/not valid percent-encoding/);
+    expect(res.body.error.fields).toEqual([{ field: 'params', message: 'Malformed percent-encoding in the address.' }]);
+  });
+
   it('sends a CSP that allows no inline script, and the usual protective headers', async () => {
     const res = await request(t.app).get('/api/health');
     const csp = res.headers['content-security-policy'];
