@@ -26,7 +26,7 @@ import { READINESS_MANAGER, READINESS_MEMBERS, seedReadinessCompany, timeReadine
 const ROOT = path.resolve(import.meta.dirname, '../..');
 const DURATION = Number(process.env.BENCH_SECONDS ?? 8);
 /** Seconds of unmeasured load before each HTTP row (BENCH_WARMUP_SECONDS). */
-const WARMUP = Number(process.env.BENCH_WARMUP_SECONDS ?? 3);
+const WARMUP = Number(process.env.BENCH_WARMUP_SECONDS ?? 6);
 /** BENCH_ONLY=calc,verify runs only those groups (engine, calc, drill, verify, pdf, readiness, bundle) while working on one. */
 const ONLY = process.env.BENCH_ONLY?.split(',').map((s) => s.trim());
 const wanted = (group: string) => !ONLY || ONLY.includes(group);
