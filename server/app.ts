@@ -1,6 +1,6 @@
 import fs from 'node:fs';
 import path from 'node:path';
-import express, { type Express, type RequestHandler, Router } from 'express';
+import express, { type Express, type RequestHandler } from 'express';
 import helmet from 'helmet';
 import session from 'express-session';
 import connectPgSimple from 'connect-pg-simple';
@@ -14,6 +14,7 @@ import type { AppContext } from './context';
 import { apiNotFound, errorHandler } from './middleware/errors';
 import { requireAccess } from './middleware/access';
 import { validate } from './middleware/validate';
+import { ApiRoutes, apiSubpath, type ApiMatch } from './middleware/api-routes';
 import { BoundedMemo, deepFreeze, sendJson } from './middleware/fast-path';
 import { routeTable } from './routes';
 import type { RouteDef } from './routes/types';
@@ -39,7 +40,8 @@ function fixedHeaders(middleware: RequestHandler): RequestHandler {
   const removed: string[] = [];
   let passed = false;
   const recorder = {
-    setHeader: (name: string, value: string | number | readonly string[]) => headers.push([name, value]),
+    // Lower-case names: Node lower-cases every name it is given, a fresh string per call unless it already is.
+    setHeader: (name: string, value: string | number | readonly string[]) => headers.push([name.toLowerCase(), value]),
     removeHeader: (name: string) => removed.push(name),
     getHeader: () => undefined,
   };
@@ -88,38 +90,34 @@ export function createApp(ctx: AppContext): CreatedApp {
   app.set('etag', false);
   if (config.secureCookies) app.set('trust proxy', 1);
 
-  app.use(
-    fixedHeaders(helmet({
-      contentSecurityPolicy: {
-        useDefaults: false,
-        directives: {
-          defaultSrc: ["'self'"],
-          scriptSrc: ["'self'"],
-          // PrimeVue's theme writes <style> elements at run time; scripts stay strictly same-origin.
-          styleSrc: ["'self'", "'unsafe-inline'"],
-          imgSrc: ["'self'", 'data:', 'blob:'],
-          fontSrc: ["'self'", 'data:'],
-          connectSrc: ["'self'"],
-          objectSrc: ["'none'"],
-          baseUri: ["'self'"],
-          frameAncestors: ["'none'"],
-          formAction: ["'self'"],
-          ...(config.secureCookies ? { upgradeInsecureRequests: [] } : {}),
-        },
+  const securityHeaders = fixedHeaders(helmet({
+    contentSecurityPolicy: {
+      useDefaults: false,
+      directives: {
+        defaultSrc: ["'self'"],
+        scriptSrc: ["'self'"],
+        // PrimeVue's theme writes <style> elements at run time; scripts stay strictly same-origin.
+        styleSrc: ["'self'", "'unsafe-inline'"],
+        imgSrc: ["'self'", 'data:', 'blob:'],
+        fontSrc: ["'self'", 'data:'],
+        connectSrc: ["'self'"],
+        objectSrc: ["'none'"],
+        baseUri: ["'self'"],
+        frameAncestors: ["'none'"],
+        formAction: ["'self'"],
+        ...(config.secureCookies ? { upgradeInsecureRequests: [] } : {}),
       },
-    })),
-  );
+    },
+  }));
   // pino-http builds a child logger with the serialized request for every request, whatever the level:
   // about half the CPU of a small API call. When its request lines would be discarded (LOG_LEVEL above
   // info) requests get the plain logger instead; errors are still logged through it.
-  if (ctx.logger.isLevelEnabled('info')) {
-    app.use(pinoHttp({ logger: ctx.logger, autoLogging: { ignore: (req) => req.url === '/api/health' } }));
-  } else {
-    app.use((req, _res, next) => {
-      req.log = ctx.logger;
-      next();
-    });
-  }
+  const logRequests: RequestHandler = ctx.logger.isLevelEnabled('info')
+    ? pinoHttp({ logger: ctx.logger, autoLogging: { ignore: (req) => req.url === '/api/health' } })
+    : (req, _res, next) => {
+        req.log = ctx.logger;
+        next();
+      };
 
   const sessionPool = new pg.Pool({ connectionString: config.databaseUrl, max: 5, connectionTimeoutMillis: 5_000 });
   sessionPool.on('error', (err) => ctx.logger.warn({ err }, 'session pool error'));
@@ -128,7 +126,6 @@ export function createApp(ctx: AppContext): CreatedApp {
   void readCache.start();
   ctx.readCache = readCache;
 
-  // Webhook signatures are computed over the exact bytes sent, so that one path keeps its raw body.
   const rawBody = express.raw({ type: () => true, limit: '1mb' });
   const jsonBody = express.json({ limit: '100kb' });
   const parseCookies = cookieParser();
@@ -170,21 +167,21 @@ export function createApp(ctx: AppContext): CreatedApp {
 
   // A public lookup without cookies has no session to load and would save none: it skips the session
   // and sign-in machinery (a third of such a request's CPU). Everything else goes through it.
-  const sessionless = (req: express.Request) =>
-    (req.method === 'GET' || req.method === 'HEAD') && !req.headers.cookie && (req.path.startsWith('/api/verify/') || req.path === '/api/health');
+  const sessionless = (req: express.Request, apiPath: string) =>
+    (req.method === 'GET' || req.method === 'HEAD') && !req.headers.cookie && (apiPath.startsWith('/verify/') || apiPath === '/health');
   // Read-only fast path: an API call that only reads its session (everything but sign-in, sign-out,
   // the CSRF token, switching company and sign-up), whose signed cookie verifies and whose session and
   // user the read cache holds, gets them from the cache and skips express-session and passport: about
   // a third of such a call's CPU. The session is deep-frozen there, so a write fails loudly instead of
   // being lost. Anything else, and every cache miss, takes the full path.
-  const sessionWriters = /^\/api\/(auth\/|signup$)/;
+  const sessionWriters = /^\/(auth\/|signup\/?$)/i;
   // A cookie's signature is an HMAC of its exact text: a text that verified once verifies again, so
   // verified texts are remembered (bounded) instead of hashed on every call. Failures are not kept.
   const verifiedCookies = new BoundedMemo<string, string>(20_000);
   // One frozen view per cached session value (a new value replaces it when the session changes).
   const sessionViews = new WeakMap<object, session.SessionData>();
-  const cachedSession = (req: express.Request, res: express.Response) => {
-    if (!req.path.startsWith('/api/') || sessionWriters.test(req.path)) return;
+  const cachedSession = (req: express.Request, res: express.Response, apiPath: string) => {
+    if (sessionWriters.test(apiPath)) return;
     const raw = (req.cookies as Record<string, string> | undefined)?.['pw.sid'];
     if (!raw?.startsWith('s:')) return;
     let sid = verifiedCookies.get(raw);
@@ -206,17 +203,37 @@ export function createApp(ctx: AppContext): CreatedApp {
     req.user = hit.user;
     res.locals.sessionFromCache = true;
   };
-  app.use((req, res, next) => {
+  // A browser sends the same Cookie header with every call of a session: its parse is remembered per
+  // header text (bounded, short headers only) and shared frozen, instead of parsed on every call.
+  const parsedCookies = new BoundedMemo<string, Record<string, string>>(5_000);
+  const noCookies: Record<string, string> = Object.freeze(Object.create(null) as Record<string, string>);
+  const readCookies = (req: express.Request, res: express.Response, done: (err?: unknown) => void) => {
+    const header = req.headers.cookie;
+    const known = header ? parsedCookies.get(header) : noCookies;
+    if (known) {
+      req.cookies = known;
+      req.signedCookies = noCookies;
+      return done();
+    }
     parseCookies(req, res, (err?: unknown) => {
-      if (err) return next(err);
-      cachedSession(req, res);
-      if (sessionless(req) || res.locals.sessionFromCache) return next();
+      if (err) return done(err);
+      req.cookies = Object.freeze(req.cookies as Record<string, string>);
+      if (header && header.length <= 1_024) parsedCookies.set(header, req.cookies);
+      done();
+    });
+  };
+  /** Cookies, then the session and signed-in user: from the read cache when it can, else express-session and passport. */
+  const withSession = (req: express.Request, res: express.Response, apiPath: string, done: (err?: unknown) => void) => {
+    readCookies(req, res, (err?: unknown) => {
+      if (err) return done(err);
+      cachedSession(req, res, apiPath);
+      if (res.locals.sessionFromCache || sessionless(req, apiPath)) return done();
       sessionMiddleware(req, res, (err1?: unknown) => {
-        if (err1) return next(err1);
-        passportInitialize(req, res, (err2?: unknown) => (err2 ? next(err2) : passportSession(req, res, next)));
+        if (err1) return done(err1);
+        passportInitialize(req, res, (err2?: unknown) => (err2 ? done(err2) : passportSession(req, res, done)));
       });
     });
-  });
+  };
 
   // Behind TLS the CSRF cookie takes the `__Host-` prefix (Secure, Path=/, no Domain).
   const csrfCookie = config.secureCookies ? '__Host-pw.csrf' : 'pw.csrf';
@@ -244,12 +261,8 @@ export function createApp(ctx: AppContext): CreatedApp {
   };
 
   const routes = routeTable(ctx);
-  // API routes are grouped by their first path segment (`calculations`, `verify`, …); one layer picks
-  // the group from a map, so a request is matched against its own few routes instead of walking the
-  // table (or a prefix layer per group).
-  const groups = new Map<string, Router>();
-  const ungrouped = Router();
-  for (const route of routes) {
+  // Each route's handlers (access, rate limits or uploads, validation, the handler) run in sequence.
+  const api = new ApiRoutes(routes.map((route) => {
     const chain: RequestHandler[] = [requireAccess(route.access), ...(route.before ?? [])];
     if (route.body || route.query || route.params) chain.push(validate(route));
     else chain.push((req, _res, next) => { req.valid = { body: req.body, query: req.query, params: req.params }; next(); });
@@ -257,28 +270,51 @@ export function createApp(ctx: AppContext): CreatedApp {
       const result = await route.handler(req, res);
       if (result !== undefined && !res.headersSent) sendJson(req, res, result);
     });
-    const rest = route.path.replace(/^\/api/, '');
-    const segment = /^\/([^/:]+)/.exec(rest)?.[1];
-    let router = ungrouped;
-    if (segment) {
-      router = groups.get(segment) ?? Router();
-      groups.set(segment, router);
-    }
-    router[route.method](rest, inSequence(chain));
-  }
-  const afterBody = (req: express.Request, res: express.Response, next: express.NextFunction, isWebhook: boolean) => {
-    if (!csrfCheck(req, isWebhook)) return next(invalidCsrfTokenError);
-    res.locals.generateCsrfToken = generateCsrfToken;
-    // Express matches routes whatever the letter case; so does the group lookup.
-    const segment = /^\/([^/?]+)/.exec(req.url)?.[1]?.toLowerCase();
-    const router = (segment && groups.get(segment)) || ungrouped;
-    router(req, res, router === ungrouped ? next : (err?: unknown) => (err ? next(err) : ungrouped(req, res, next)));
+    return { method: route.method, path: route.path.replace(/^\/api/, ''), run: inSequence(chain) };
+  }));
+  /** An API call: session, body, CSRF check, then its route (or a 404 naming what was asked). */
+  const handleApi = (req: express.Request, res: express.Response, next: express.NextFunction, apiPath: string) => {
+    withSession(req, res, apiPath, (err?: unknown) => {
+      if (err) return next(err);
+      // Webhook signatures are computed over the exact bytes sent, so that one path keeps its raw body.
+      const isStripe = apiPath === '/webhooks/stripe' || apiPath.startsWith('/webhooks/stripe/');
+      (isStripe ? rawBody : jsonBody)(req, res, (err1?: unknown) => {
+        if (err1) return next(err1);
+        if (!csrfCheck(req, apiPath.startsWith('/webhooks/'))) return next(invalidCsrfTokenError);
+        res.locals.generateCsrfToken = generateCsrfToken;
+        let found: ApiMatch;
+        try {
+          found = api.find(req.method, apiPath);
+        } catch (error) {
+          return next(error);
+        }
+        if (found.kind === 'route') {
+          req.params = found.params;
+          return found.run(req, res, next);
+        }
+        if (found.kind === 'options') {
+          res.setHeader('Allow', found.allow);
+          res.setHeader('Content-Type', 'text/plain; charset=utf-8');
+          return res.end(found.allow);
+        }
+        apiNotFound(req, res, next);
+      });
+    });
   };
-  app.use('/api', (req, res, next) => {
-    const isStripe = req.path === '/webhooks/stripe' || req.path.startsWith('/webhooks/stripe/');
-    (isStripe ? rawBody : jsonBody)(req, res, (err?: unknown) => (err ? next(err) : afterBody(req, res, next, req.path.startsWith('/webhooks/'))));
+  // One layer in front of everything: the security headers and the request logger for every request,
+  // then an API call goes straight to its route (one lookup, not a walk through Express's layers);
+  // anything else (the built client) goes on.
+  app.use((req, res, next) => {
+    securityHeaders(req, res, (err?: unknown) => {
+      if (err) return next(err);
+      logRequests(req, res, (err1?: unknown) => {
+        if (err1) return next(err1);
+        const apiPath = apiSubpath(req.path);
+        if (apiPath === undefined) return next();
+        handleApi(req, res, next, apiPath);
+      });
+    });
   });
-  app.use('/api', apiNotFound);
 
   if (config.serveClient) {
     if (!fs.existsSync(path.join(CLIENT_DIR, 'index.html'))) {

@@ -137,11 +137,22 @@ export class ReadCache {
    */
   signedIn(sid: string): { session: session.SessionData; user: Express.User } | undefined {
     const sessionHit = this.read(this.sessions, sid)?.value;
-    const expires = sessionHit?.cookie?.expires ? new Date(sessionHit.cookie.expires).getTime() : Infinity;
+    const expires = sessionHit ? this.expiryOf(sessionHit) : Infinity;
     const userId = (sessionHit as { passport?: { user?: unknown } } | null | undefined)?.passport?.user;
     if (!sessionHit || expires <= Date.now() || typeof userId !== 'string') return undefined;
     const user = this.read(this.users, userId)?.value;
     return user ? { session: sessionHit, user } : undefined;
+  }
+
+  /** When a cached session's cookie expires (ms), read once per cached value instead of parsed on every call. */
+  private readonly expiries = new WeakMap<object, number>();
+  private expiryOf(value: session.SessionData): number {
+    let expires = this.expiries.get(value);
+    if (expires === undefined) {
+      expires = value.cookie?.expires ? new Date(value.cookie.expires).getTime() : Infinity;
+      this.expiries.set(value, expires);
+    }
+    return expires;
   }
 
   /** A certificate's row by its canonical number (null when there is none), through the cache. */
@@ -163,8 +174,7 @@ export class ReadCache {
         const hit = cache.read(cache.sessions, sid);
         if (hit) {
           const value = hit.value;
-          const expires = value?.cookie?.expires ? new Date(value.cookie.expires).getTime() : Infinity;
-          if (value && expires <= Date.now()) {
+          if (value && cache.expiryOf(value) <= Date.now()) {
             cache.sessions.delete(sid);
             return callback(null, null);
           }

@@ -34,6 +34,15 @@ describe('health and the error shape', () => {
     expect((await request(t.app).get('/api/no-such-thing/')).status).toBe(404);
   });
 
+  it('answers a method a path does not have with a 404, and OPTIONS with the methods it has', async () => {
+    const wrong = await request(t.app).get('/api/calculations/stack-flow').expect(404);
+    expect(wrong.body.error.message).toBe('No API route for GET /api/calculations/stack-flow.');
+    expect((await request(t.app).options('/api/calculations/stack-flow').expect(200)).headers.allow).toBe('POST');
+    const options = await request(t.app).options('/api/verify/PW-2026-ABCD').expect(200);
+    expect(options.headers.allow).toBe('GET, HEAD');
+    expect((await request(t.app).options('/api/no-such-thing')).status).toBe(404);
+  });
+
   it('answers a broken percent-escape in the address with a 400 that says so', async () => {
     const res = await request(t.app).get('/api/verify/PW%E0%A4%A').expect(400);
     expect(res.body.error.code).toBe('bad_request');
