@@ -5,6 +5,7 @@ import {
 } from '../../shared/certificates';
 import type { AppContext } from '../context';
 import { HttpError } from '../middleware/errors';
+import { windowLimiter } from '../middleware/rate-limit';
 import { evidenceFor, grantAccess, grantsForAuditor, listGrants, withdrawGrant } from '../services/certificate-evidence';
 import {
   certificatePdfFor, listCertificatesForOperator, listMyCertificates, reissueCertificate, requireNumber, revokeCertificate,
@@ -23,7 +24,7 @@ function tooManyChecks(_req: Request, _res: Response, next: NextFunction) {
 export function certificateRoutes(ctx: AppContext): RouteDef[] {
   const { windowMs, max } = ctx.config.verifyRateLimit;
   // Public checks share one budget per caller address, so numbers cannot be guessed at speed.
-  const publicCheckLimiter = rateLimit({ windowMs, limit: max, standardHeaders: 'draft-7', legacyHeaders: false, keyGenerator: (req) => ipKeyGenerator(req.ip ?? ''), handler: tooManyChecks });
+  const publicCheckLimiter = windowLimiter({ windowMs, limit: max, key: (req) => ipKeyGenerator(req.ip ?? ''), onLimited: tooManyChecks });
   const batchLimiter = rateLimit({ windowMs, limit: Math.max(10, Math.ceil(max / 6)), standardHeaders: 'draft-7', legacyHeaders: false, keyGenerator: (req) => req.user?.id ?? ipKeyGenerator(req.ip ?? ''), handler: tooManyChecks });
   const caller = (req: Request) => ({ userId: req.user?.id ?? null, ipHash: hashIp(req.ip, ctx.config.sessionSecret) });
   const noStore = (res: Response) => res.setHeader('Cache-Control', 'no-store');
