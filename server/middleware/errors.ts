@@ -62,6 +62,10 @@ export const errorHandler: ErrorRequestHandler = (err, req, res, _next) => {
   } else if (error?.type === 'entity.parse.failed') {
     status = 400;
     body = { code: 'malformed_json', message: 'The request body is not valid JSON.' };
+  } else if (error?.code === 'Z_DATA_ERROR' || error?.code === 'Z_BUF_ERROR') {
+    // A body whose Content-Encoding (gzip, deflate, br) does not match its bytes.
+    status = 400;
+    body = { code: 'malformed_body', message: 'The request body could not be decompressed as its Content-Encoding says.' };
   } else if (error?.type === 'charset.unsupported' || error?.type === 'encoding.unsupported') {
     status = 415;
     body = { code: 'unsupported_body', message: 'Send the request body as uncompressed UTF-8 JSON.' };

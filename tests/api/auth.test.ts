@@ -1,3 +1,4 @@
+import http from 'node:http';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import request from 'supertest';
 import { createTestApp, type TestApp } from '../helpers/app';
@@ -73,6 +74,46 @@ describe('sign-in', () => {
     const latin = await agent.agent.post('/api/auth/login').set('x-csrf-token', token).set('content-type', 'application/json; charset=latin1').send('{"email":"a@b.example"}');
     expect(latin.status).toBe(415);
     expect(latin.body.error.code).toBe('unsupported_body');
+  });
+
+  it('reads JSON bodies by body-parser\'s rules on either path: strict, empty as {}, byte-order mark dropped, gzip and chunked accepted, a corrupt gzip body refused', async () => {
+    const { gzipSync } = await import('node:zlib');
+    const agent = new TestAgent(t.app);
+    const token = await agent.csrfToken();
+    const post = () => agent.agent.post('/api/auth/login').set('x-csrf-token', token).set('content-type', 'application/json');
+    const login = JSON.stringify({ email: 'nobody@plumewright.example', password: 'not-the-password' });
+    // A bare JSON value is not an object or array: refused as body-parser's strict mode refuses it.
+    expect((await post().send('"text"')).body.error.code).toBe('malformed_json');
+    // An empty body is {}: the route then names the missing fields.
+    const empty = await post().send('');
+    expect(empty.status).toBe(400);
+    expect(empty.body.error.fields.map((f: { field: string }) => f.field).sort()).toEqual(['email', 'password']);
+    // Read as sent, the same credentials are refused for what they are (401), whatever the framing.
+    expect((await post().send(`\uFEFF${login}`)).status).toBe(401);
+    // Chunked (no Content-Length), sent in two writes: body-parser's path.
+    const server = t.app.listen(0, '127.0.0.1');
+    await new Promise((resolve) => server.once('listening', resolve));
+    const base = `http://127.0.0.1:${(server.address() as { port: number }).port}`;
+    const csrf = await fetch(`${base}/api/auth/csrf`);
+    const cookie = csrf.headers.getSetCookie().map((c) => c.split(';')[0]).join('; ');
+    const csrfToken = ((await csrf.json()) as { csrfToken: string }).csrfToken;
+    const chunked = await new Promise<number>((resolve, reject) => {
+      const req = http.request(`${base}/api/auth/login`, { method: 'POST', headers: { 'content-type': 'application/json', 'x-csrf-token': csrfToken, cookie } }, (res) => {
+        res.resume();
+        res.on('end', () => resolve(res.statusCode ?? 0));
+      });
+      req.on('error', reject);
+      req.write(login.slice(0, 10));
+      setTimeout(() => req.end(login.slice(10)), 20);
+    });
+    // Compressed: body-parser's path inflates it; a body that is not what its encoding says is a 400.
+    const send = (body: Buffer) => fetch(`${base}/api/auth/login`, { method: 'POST', body, headers: { 'content-type': 'application/json', 'content-encoding': 'gzip', 'x-csrf-token': csrfToken, cookie } });
+    expect((await send(gzipSync(login))).status).toBe(401);
+    const corrupt = await send(Buffer.from(login));
+    expect(corrupt.status).toBe(400);
+    expect(((await corrupt.json()) as { error: { code: string } }).error.code).toBe('malformed_body');
+    await new Promise((resolve) => server.close(resolve));
+    expect(chunked).toBe(401);
   });
 
   it('rate-limits repeated failures with 429', async () => {
