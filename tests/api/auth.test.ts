@@ -107,7 +107,7 @@ describe('sign-in', () => {
       setTimeout(() => req.end(login.slice(10)), 20);
     });
     // Compressed: body-parser's path inflates it; a body that is not what its encoding says is a 400.
-    const send = (body: Buffer) => fetch(`${base}/api/auth/login`, { method: 'POST', body, headers: { 'content-type': 'application/json', 'content-encoding': 'gzip', 'x-csrf-token': csrfToken, cookie } });
+    const send = (body: Buffer) => fetch(`${base}/api/auth/login`, { method: 'POST', body: new Uint8Array(body), headers: { 'content-type': 'application/json', 'content-encoding': 'gzip', 'x-csrf-token': csrfToken, cookie } });
     expect((await send(gzipSync(login))).status).toBe(401);
     const corrupt = await send(Buffer.from(login));
     expect(corrupt.status).toBe(400);
