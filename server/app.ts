@@ -310,30 +310,21 @@ export function createApp(ctx: AppContext): CreatedApp {
       });
     });
   };
-  // One layer in front of everything: the security headers and the request logger for every request,
-  // then an API call goes straight to its route (one lookup, not a walk through Express's layers);
-  // anything else (the built client) goes on.
-  const front: RequestHandler = (req, res, next) => {
-    securityHeaders(req, res, (err?: unknown) => {
-      if (err) return next(err);
-      logRequests(req, res, (err1?: unknown) => {
-        if (err1) return next(err1);
-        const apiPath = apiSubpath(req.path);
-        if (apiPath === undefined) return next();
-        handleApi(req, res, next, apiPath);
-      });
-    });
+  // Every request gets the security headers and the request logger first.
+  const common = (req: express.Request, res: express.Response, done: (err?: unknown) => void) => {
+    securityHeaders(req, res, (err?: unknown) => (err ? done(err) : logRequests(req, res, done)));
   };
-  app.use(front);
-  // An API call needs nothing from Express's router (the front layer does all of its dispatch), so it
-  // skips it: what app.handle does before its router (link the request and response, give them
-  // Express's prototypes and res.locals) and straight to the front layer, its errors to errorHandler.
-  // About a tenth of a small call's CPU. Everything else takes app.handle as it is.
+  app.use(common);
+  // An API call needs nothing from Express's router (handleApi does all of its dispatch), so it skips
+  // it: what app.handle does before its router (link the request and response, give them Express's
+  // prototypes and res.locals), then the common layer and its route, errors to errorHandler. About a
+  // tenth of a small call's CPU. Everything else (the built client) takes app.handle as it is.
   const expressApp = app as unknown as ExpressInternals;
   const routerHandle = expressApp.handle.bind(app);
   expressApp.handle = (req, res, callback) => {
     const query = req.url.indexOf('?');
-    if (apiSubpath(query < 0 ? req.url : req.url.slice(0, query)) === undefined) return routerHandle(req, res, callback);
+    const apiPath = apiSubpath(query < 0 ? req.url : req.url.slice(0, query));
+    if (apiPath === undefined) return routerHandle(req, res, callback);
     req.res = res;
     res.req = req;
     Object.setPrototypeOf(req, expressApp.request);
@@ -343,7 +334,8 @@ export function createApp(ctx: AppContext): CreatedApp {
       if (res.headersSent) return void req.socket?.destroy();
       errorHandler(err, req, res, () => undefined);
     };
-    front(req, res, (err?: unknown) => (err ? fail(err) : apiNotFound(req, res, fail)));
+    const next = (err?: unknown) => (err ? fail(err) : apiNotFound(req, res, fail));
+    common(req, res, (err?: unknown) => (err ? fail(err) : handleApi(req, res, next, apiPath)));
   };
 
   if (config.serveClient) {

@@ -65,18 +65,22 @@ export class ApiRoutes {
   find(method: string, path: string): ApiMatch {
     const end = path.indexOf('/', 1);
     const segment = (end < 0 ? path.slice(1) : path.slice(1, end)).toLowerCase();
-    const group = this.groups.get(segment);
-    const allowed = new Set<string>();
-    for (const candidates of group ? [group, this.ungrouped] : [this.ungrouped]) {
-      for (const route of candidates) {
+    // Methods of routes whose path matched but whose method did not (made only when there is one).
+    let allowed: Set<string> | undefined;
+    const tryRoutes = (candidates: Compiled[] | undefined): ApiMatch | undefined => {
+      for (const route of candidates ?? []) {
         const matched = route.matches(path);
         if (!matched) continue;
         if (route.method === method || (method === 'HEAD' && route.method === 'GET')) return { kind: 'route', run: route.run, params: { ...matched.params } };
+        allowed ??= new Set();
         allowed.add(route.method);
         if (route.method === 'GET') allowed.add('HEAD');
       }
-    }
-    if (method === 'OPTIONS' && allowed.size) return { kind: 'options', allow: [...allowed].join(', ') };
+      return undefined;
+    };
+    const found = tryRoutes(this.groups.get(segment)) ?? tryRoutes(this.ungrouped);
+    if (found) return found;
+    if (method === 'OPTIONS' && allowed) return { kind: 'options', allow: [...allowed].join(', ') };
     return { kind: 'none' };
   }
 }
